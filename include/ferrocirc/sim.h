@@ -1,0 +1,54 @@
+/* ferrocirc — time integration of a network (SUNDIALS CVODE, BDF, Newton with an exact sparse
+ * preconditioner; see src/sys.h for the formulation and docs/numerics.md).
+ *
+ * The run calls the sink at every sample time t = 0, dt, 2 dt, ..., duration (and at the
+ * duration itself if it is not a multiple of dt), and at every mode switch. Results accumulate
+ * volumes with CVODE quadratures (integrated alongside the state by the same BDF formula, so
+ * stored volume and integrated inflow agree to the Newton tolerance) and extremes at every
+ * internal step, so a peak between samples is not missed. */
+#ifndef FERROCIRC_SIM_H
+#define FERROCIRC_SIM_H
+
+#include "ferrocirc/error.h"
+#include "ferrocirc/network.h"
+
+typedef struct fc_sim_sink {
+  void *ctx;
+  /* p[nNode] gauge pressures [Pa]; q[nElem] flows from -> to [m^3/s] (NaN for one-terminal
+   * elements); mode[nElem] discrete states (0 for elements without modes). Nonzero = stop. */
+  int (*xSample)(void *ctx, double t, const double *p, const double *q, const int *mode);
+  /* Optional: element `elem` switched from mode a to b at t; dp = p(from) - p(to) [Pa]. */
+  int (*xEvent)(void *ctx, double t, int elem, int a, int b, double dp);
+} fc_sim_sink;
+
+typedef struct fc_sim_stats {
+  long steps, rhs_evals, lin_iters, prec_setups, prec_solves, nonlin_iters;
+  long err_test_fails, conv_fails, root_evals, events, restarts, factorizations;
+  double wall_seconds;
+} fc_sim_stats;
+
+typedef struct fc_sim_result {
+  int nNode, nElem;
+  double t_end;           /* time reached [s] */
+  double *p_min, *p_max, *p_mean;   /* per node [Pa]; mean = time average */
+  double *q_min, *q_max, *q_mean;   /* per element [m^3/s]; NaN for one-terminal elements */
+  double *v_net, *v_back;           /* per element: integral of q, of max(-q, 0) [m^3] */
+  double *v_stored;                 /* per node: change of stored volume over the run [m^3] */
+  double *v_inflow;                 /* per node: integral of the net inflow [m^3] */
+  int nCycle;                       /* complete cycles recorded */
+  double cycle_period;              /* [s], 0 if none */
+  double *cyc_v_net, *cyc_v_back;   /* nCycle x nElem, per cycle [m^3] */
+  fc_sim_stats stats;
+} fc_sim_result;
+
+/* Integrate `net` over its simulation window. The sink may be NULL. On success *out holds the
+ * results (caller frees with fc_sim_result_free). Errors: FC_ESOLVE (message names time, the
+ * element nearest the failing state and CVODE's flag), FC_ETOPO (steady start undetermined),
+ * FC_EINTR (fc_sim_request_stop was called; *out then holds the results up to t_end). */
+int fc_sim_run(fc_net *net, const fc_sim_sink *sink, fc_sim_result **out, fc_error *err);
+void fc_sim_result_free(fc_sim_result *r);
+
+/* Async-signal-safe: ask a running fc_sim_run to stop at its next step. */
+void fc_sim_request_stop(void);
+
+#endif

@@ -1,0 +1,104 @@
+/* ferrocirc — command-line dispatch and `check`. */
+#include <stdio.h>
+#include <string.h>
+
+#include "cli.h"
+#include "ferrocirc/units.h"
+#include "ferrocirc/valve.h"
+#include "net.h"
+#include "sys.h"
+
+int fc_valve_cli(int argc, char **argv) __attribute__((weak)); /* WIRING: until src/valve lands */
+
+static const char usage[] =
+  "usage: ferrocirc COMMAND [ARGS]\n"
+  "  run NETWORK.json [-o OUT.csv] [--summary OUT.json] [--events OUT.csv]\n"
+  "      [--pressure-unit U] [--flow-unit U] [--keep-partial] [--quiet]\n"
+  "                       simulate a network, write the time series and a summary\n"
+  "  check NETWORK.json   validate; list nodes, elements, resistances, time constants\n"
+  "  demo [-o demo.csv]   run the built-in organ-on-chip demo network\n"
+  "  valve DESIGN.json [--json] [--unit U] [--profile OUT.csv]\n"
+  "        [--vary PATH=FROM..TO --steps N -o OUT.csv]\n"
+  "                       cracking, reseat and blowout pressures of a ferrofluid valve design\n"
+  "Exit status: 0 ok, 1 other failure (I/O), 2 bad input or usage, 3 integrator failure.\n";
+
+int fci_cli_report(const fc_error *err)
+{
+  char buf[1400];
+  fprintf(stderr, "ferrocirc: %s\n", fc_error_format(err, buf, sizeof buf));
+  return fc_error_exit_status(err->code);
+}
+
+static void check_print(const fc_net *net, const fci_sys *s)
+{
+  printf("%s: %d nodes (%d compliant, %d algebraic, %d imposed), %d elements, %d states\n",
+         net->file, net->nNode, s->ns, s->nz, net->nNode - s->ns - s->nz, net->nElem, s->nx);
+  printf("\nElements\n");
+  for (int i = 0; i < net->nElem; i++) {
+    const fc_elem *e = &net->elem[i];
+    fci_info info = {0};
+    if (e->type->xInfo) e->type->xInfo(e, &net->fluid, &info);
+    printf("  %-18s %-16s %s%s%s  %s\n", e->id, e->type->name, net->nodeName[e->node[0]],
+           e->nTerm == 2 ? " -> " : "", e->nTerm == 2 ? net->nodeName[e->node[1]] : "", info.text);
+  }
+  printf("\nCompliant nodes: C [m^3/Pa], local time constant tau = C / (sum of adjacent conductances)\n");
+  double tmin = 0, tmax = 0;
+  for (int k = 0; k < s->ns; k++) {
+    int n = s->xnode[k];
+    double C = 0, G = 0;
+    for (int j = s->store_ptr[k]; j < s->store_ptr[k + 1]; j++) {
+      fci_info info = {0};
+      const fc_elem *e = &net->elem[s->store_el[j]];
+      if (e->type->xInfo) e->type->xInfo(e, &net->fluid, &info);
+      C += info.compliance;
+    }
+    for (int i = 0; i < net->nElem; i++) {
+      const fc_elem *e = &net->elem[i];
+      fci_info info = {0};
+      if (e->nTerm != 2 || (e->node[0] != n && e->node[1] != n) || !e->type->xInfo) continue;
+      e->type->xInfo(e, &net->fluid, &info);
+      if (info.resistance > 0) G += 1 / info.resistance;
+    }
+    double tau = G > 0 ? C / G : 0;
+    printf("  %-18s C = %.4g  tau = %.4g s\n", net->nodeName[n], C, tau);
+    if (tau > 0 && (tmin == 0 || tau < tmin)) tmin = tau;
+    if (tau > tmax) tmax = tau;
+  }
+  if (tmin > 0) printf("  time constants span %.3g s .. %.3g s (ratio %.3g)\n", tmin, tmax, tmax / tmin);
+  printf("\nAlgebraic nodes (no compliance; pressures solved exactly each step):\n ");
+  for (int i = 0; i < s->nz; i++) printf(" %s", net->nodeName[s->znode[i]]);
+  printf("%s\nOK\n", s->nz ? "" : " (none)");
+}
+
+int fci_cli_check(int argc, char **argv)
+{
+  if (argc != 2) { fputs(usage, stderr); return 2; }
+  fc_error err = {0};
+  fc_units *u = NULL;
+  fc_net *net = NULL;
+  fci_sys *s = NULL;
+  int rc = fc_units_open(&u, &err);
+  if (!rc) rc = fc_net_load(argv[1], u, &net, &err);
+  if (!rc && (rc = fci_sys_build(net, &s, &err))) fc_error_set_file(&err, argv[1], 0, 0);
+  if (!rc) check_print(net, s);
+  int status = rc ? fci_cli_report(&err) : 0;
+  fci_sys_free(s);
+  fc_net_free(net);
+  fc_units_free(u);
+  return status;
+}
+
+int fci_cli_main(int argc, char **argv)
+{
+  if (argc < 2 || !strcmp(argv[1], "help") || !strcmp(argv[1], "--help") || !strcmp(argv[1], "-h")) {
+    fputs(usage, argc < 2 ? stderr : stdout);
+    return argc < 2 ? 2 : 0;
+  }
+  if (!strcmp(argv[1], "--version")) { printf("ferrocirc 0.1.0\n"); return 0; }
+  if (!strcmp(argv[1], "run")) return fci_cli_run(argc - 1, argv + 1);
+  if (!strcmp(argv[1], "demo")) return fci_cli_demo(argc - 1, argv + 1);
+  if (!strcmp(argv[1], "check")) return fci_cli_check(argc - 1, argv + 1);
+  if (!strcmp(argv[1], "valve") && fc_valve_cli) return fc_valve_cli(argc - 1, argv + 1);
+  fprintf(stderr, "ferrocirc: unknown command \"%s\"\n%s", argv[1], usage);
+  return 2;
+}

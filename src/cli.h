@@ -1,0 +1,17 @@
+/* ferrocirc — command line (src/cli.c dispatch and check, src/cli_run.c run and demo). */
+#ifndef FERROCIRC_CLI_H
+#define FERROCIRC_CLI_H
+
+#include "ferrocirc/error.h"
+#include "ferrocirc/network.h"
+
+int fci_cli_main(int argc, char **argv);
+int fci_cli_run(int argc, char **argv);   /* "run" */
+int fci_cli_demo(int argc, char **argv);  /* "demo" */
+int fci_cli_check(int argc, char **argv); /* "check" */
+/* Print err to stderr as "ferrocirc: FILE:LINE:COL: PATH: MESSAGE"; returns its exit status. */
+int fci_cli_report(const fc_error *err);
+/* The embedded demo network (src/demo.c). */
+extern const char fci_demo_network[];
+
+#endif

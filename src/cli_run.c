@@ -1,0 +1,178 @@
+/* ferrocirc — `run` and `demo`: load, simulate, write the CSV, events and summary atomically.
+ * SIGINT/SIGTERM ask the integrator to stop; outputs are then removed, or kept as
+ * "PATH.partial" with --keep-partial, with a note of the last time reached. */
+#define _POSIX_C_SOURCE 200809L
+#include <signal.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+#include "ferrocirc/output.h"
+#include "ferrocirc/sim.h"
+#include "ferrocirc/summary.h"
+#include "ferrocirc/units.h"
+#include "net.h"
+
+typedef struct run_args {
+  const char *network, *csv, *summary, *events, *p_unit, *q_unit;
+  int keep_partial, quiet;
+} run_args;
+
+typedef struct run_io {
+  fc_outfile *csv, *events;
+  fc_csv_sink *sink;
+  const fc_net *net;
+  double pf;
+} run_io;
+
+static void on_signal(int sig)
+{
+  (void)sig;
+  fc_sim_request_stop();
+}
+
+static int parse_args(int argc, char **argv, run_args *a, int need_network, fc_error *err)
+{
+  memset(a, 0, sizeof *a);
+  for (int i = 1; i < argc; i++) {
+    const char *s = argv[i];
+    const char **slot = !strcmp(s, "-o") ? &a->csv : !strcmp(s, "--summary") ? &a->summary
+                      : !strcmp(s, "--events") ? &a->events : !strcmp(s, "--pressure-unit") ? &a->p_unit
+                      : !strcmp(s, "--flow-unit") ? &a->q_unit : NULL;
+    if (slot) {
+      if (++i >= argc) return fc_fail(err, FC_EUSAGE, NULL, "%s needs a value", s);
+      *slot = argv[i];
+    } else if (!strcmp(s, "--keep-partial")) a->keep_partial = 1;
+    else if (!strcmp(s, "--quiet")) a->quiet = 1;
+    else if (s[0] == '-') return fc_fail(err, FC_EUSAGE, NULL, "unknown option %s", s);
+    else if (need_network && !a->network) a->network = s;
+    else return fc_fail(err, FC_EUSAGE, NULL, "unexpected argument %s", s);
+  }
+  if (need_network && !a->network)
+    return fc_fail(err, FC_EUSAGE, NULL, "usage: ferrocirc run NETWORK.json [-o OUT.csv] ...");
+  return FC_OK;
+}
+
+static int on_event(void *ctx, double t, int elem, int a, int b, double dp)
+{
+  run_io *io = ctx;
+  if (!io->events) return 0;
+  FILE *f = fc_outfile_stream(io->events);
+  return fprintf(f, "%.9g,%s,%d,%d,%.9g\n", t, fc_net_elem_id(io->net, elem), a, b, dp * io->pf) < 0;
+}
+
+static int sample(void *ctx, double t, const double *p, const double *q, const int *m);
+
+static fc_sim_sink bound;
+
+static int sample(void *ctx, double t, const double *p, const double *q, const int *m)
+{
+  run_io *io = ctx;
+  return io->sink ? bound.xSample(bound.ctx, t, p, q, m) : 0;
+}
+
+static int write_summary(const char *path, const fc_net *net, const fc_sim_result *r, fc_error *err)
+{
+  char *txt = fc_summary_json(net, r);
+  if (!txt) return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
+  fc_outfile *o;
+  int rc = fc_outfile_open(path, &o, err);
+  if (!rc) {
+    fputs(txt, fc_outfile_stream(o));
+    fputc('\n', fc_outfile_stream(o));
+    rc = fc_outfile_commit(o, err);
+  }
+  free(txt);
+  return rc;
+}
+
+static int finish_outputs(run_io *io, const run_args *a, int rc, const fc_sim_result *r, fc_error *err)
+{
+  char note[128];
+  if (rc == FC_EINTR && a->keep_partial) {
+    snprintf(note, sizeof note, "partial: interrupted, last time reached t = %.9g s", r ? r->t_end : 0.0);
+    fc_error e2 = {0};
+    if (io->csv) fc_outfile_keep_partial(io->csv, note, &e2);
+    if (io->events) fc_outfile_keep_partial(io->events, note, &e2);
+    return rc;
+  }
+  if (rc) {
+    fc_outfile_abort(io->csv);
+    fc_outfile_abort(io->events);
+    return rc;
+  }
+  int rc1 = io->csv ? fc_outfile_commit(io->csv, err) : FC_OK;
+  if (rc1) { fc_outfile_abort(io->events); return rc1; }
+  return io->events ? fc_outfile_commit(io->events, err) : FC_OK;
+}
+
+static int simulate(fc_net *net, const fc_units *u, const run_args *a, fc_error *err)
+{
+  run_io io = {0};
+  fc_report_units ru = {a->p_unit ? a->p_unit : net->pressure_unit,
+                        a->q_unit ? a->q_unit : net->flow_unit, 1, 1};
+  fc_sim_result *r = NULL;
+  int rc = fc_units_out_factor(u, ru.p_unit, FC_DIM_PRESSURE, &ru.pf, "--pressure-unit", err);
+  if (!rc) rc = fc_units_out_factor(u, ru.q_unit, FC_DIM_FLOW, &ru.qf, "--flow-unit", err);
+  if (rc) { err->code = FC_EUSAGE; return rc; }
+  io.net = net;
+  io.pf = ru.pf;
+  if (a->csv && !(rc = fc_outfile_open(a->csv, &io.csv, err)))
+    rc = fc_csv_sink_new(net, fc_outfile_stream(io.csv), ru.pf, ru.qf, ru.p_unit, ru.q_unit, &io.sink, err);
+  if (!rc && a->events && !(rc = fc_outfile_open(a->events, &io.events, err)) &&
+      fc_events_csv_header(fc_outfile_stream(io.events), ru.p_unit))
+    rc = fc_fail(err, FC_EIO, NULL, "writing %s failed", a->events);
+  if (!rc) {
+    if (io.sink) fc_csv_sink_bind(io.sink, &bound);
+    fc_sim_sink sink = {&io, sample, on_event};
+    rc = fc_sim_run(net, &sink, &r, err);
+    if (rc && rc != FC_EINTR) fc_error_set_file(err, net->file, 0, 0);
+  }
+  rc = finish_outputs(&io, a, rc, r, err);
+  if (!rc && a->summary) rc = write_summary(a->summary, net, r, err);
+  if (!rc && !a->quiet) fc_summary_print(stdout, net, r, &ru);
+  fc_csv_sink_free(io.sink);
+  fc_sim_result_free(r);
+  return rc;
+}
+
+static int run_common(const run_args *a, const char *buf, size_t len)
+{
+  fc_error err = {0};
+  fc_units *u = NULL;
+  fc_net *net = NULL;
+  struct sigaction sa;
+  memset(&sa, 0, sizeof sa);
+  sa.sa_handler = on_signal;
+  sigaction(SIGINT, &sa, NULL);
+  sigaction(SIGTERM, &sa, NULL);
+  int rc = fc_units_open(&u, &err);
+  if (!rc) rc = buf ? fc_net_load_buffer(buf, len, "demo (built in)", "", u, &net, &err)
+                    : fc_net_load(a->network, u, &net, &err);
+  if (!rc) rc = simulate(net, u, a, &err);
+  int status = rc ? fci_cli_report(&err) : 0;
+  if (rc == FC_EINTR) status = 130;
+  fc_net_free(net);
+  fc_units_free(u);
+  return status;
+}
+
+int fci_cli_run(int argc, char **argv)
+{
+  run_args a;
+  fc_error err = {0};
+  if (parse_args(argc, argv, &a, 1, &err)) return fci_cli_report(&err);
+  return run_common(&a, NULL, 0);
+}
+
+int fci_cli_demo(int argc, char **argv)
+{
+  run_args a;
+  fc_error err = {0};
+  if (parse_args(argc, argv, &a, 0, &err)) return fci_cli_report(&err);
+  if (!a.csv) a.csv = "demo.csv";
+  printf("ferrocirc demo: an invented organ-on-chip loop (pulsatile pump, bubble trap, culture\n"
+         "chamber, drain); network text: `ferrocirc demo --print`. Writing %s.\n\n", a.csv);
+  return run_common(&a, fci_demo_network, strlen(fci_demo_network));
+}

@@ -1,0 +1,159 @@
+/* ferrocirc — the "fluid", "simulation" and "report" sections of a network file.
+ *
+ * Default fluid: water at 37 °C, air-free: density 993.329 kg/m^3 (CIPM formula, Tanaka et al.
+ * 2001, Metrologia 38:301), viscosity 0.6913034 mPa s (IAPWS R12-08), ambient 101325 Pa
+ * (standard atmosphere). Culture media are close to water; their viscosity rises with serum, so
+ * users should override it (docs/network-format.md). */
+#include <cjson/cJSON.h>
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "ferrocirc/fluid.h"
+#include "net.h"
+
+#define FC_MAX_SAMPLES 10000000.0 /* output rows per run; more is refused with a message */
+
+static const char *const fluid_keys[] = {"viscosity", "density", "ambient_pressure",
+                                         "temperature", "name", NULL};
+static const char *const sim_keys[] = {"duration", "cycles", "cycle_period", "sample_interval",
+                                       "rel_tol", "abs_tol", "abs_tol_volume", "abs_tol_flow",
+                                       "max_step", "initial", NULL};
+static const char *const report_keys[] = {"pressure_unit", "flow_unit", NULL};
+
+int fci_net_parse_fluid(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc_error *err)
+{
+  const char *P = "$.fluid";
+  int rc;
+  double T;
+  if (j && !cJSON_IsObject(j)) return fc_fail(err, FC_EJSON, P, "expected an object");
+  if (j && (rc = fci_check_keys(j, fluid_keys, NULL, P, err))) return rc;
+  /* Water properties at the given temperature (default 37 °C) are the defaults. */
+  if ((rc = fci_get_quantity(j, "temperature", FC_DIM_TEMPERATURE, 0, 310.15, FCI_POS, &T, P, ctx, err)))
+    return rc;
+  if (T < 273.16 || T > 373.15)
+    return fc_fail(err, FC_EPARAM, "$.fluid.temperature",
+                   "%.2f K is outside liquid water's 0.01-100 °C range used for the defaults", T);
+  double rho0 = fc_water_density(T), mu0 = fc_water_viscosity(T, rho0);
+  fci_fluid *f = &net->fluid;
+  if ((rc = fci_get_quantity(j, "density", FC_DIM_DENSITY, 0, rho0, FCI_POS, &f->density, P, ctx, err)))
+    return rc;
+  if ((rc = fci_get_quantity(j, "viscosity", FC_DIM_VISCOSITY, 0, mu0, FCI_POS, &f->viscosity, P, ctx, err)))
+    return rc;
+  return fci_get_quantity(j, "ambient_pressure", FC_DIM_PRESSURE, 0, 101325.0, FCI_POS,
+                          &f->ambient, P, ctx, err);
+}
+
+/* The network's cycle: the common period of its periodic sources (0 if none); FC_EPARAM if
+ * several differ, which the caller reports only when a cycle is needed. */
+static int source_period(const fc_net *net, double *period, const char **second)
+{
+  *period = 0;
+  *second = NULL;
+  for (int i = 0; i < net->nElem; i++) {
+    const fc_elem *e = &net->elem[i];
+    fci_info info = {0};
+    if (!e->type->xInfo) continue;
+    e->type->xInfo(e, &net->fluid, &info);
+    if (info.period <= 0) continue;
+    if (*period == 0) *period = info.period;
+    else if (fabs(info.period - *period) > 1e-12 * *period) { *second = e->id; return FC_EPARAM; }
+  }
+  return FC_OK;
+}
+
+static int parse_times(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc_error *err)
+{
+  const char *P = "$.simulation";
+  fci_sim_opts *s = &net->sim;
+  const char *other;
+  int rc, mixed = source_period(net, &s->cycle_period, &other);
+  if ((rc = fci_get_quantity(j, "cycle_period", FC_DIM_TIME, 0, s->cycle_period, FCI_POS,
+                             &s->cycle_period, P, ctx, err)))
+    return rc;
+  int has_p = j && cJSON_GetObjectItemCaseSensitive(j, "cycle_period");
+  int has_d = j && cJSON_GetObjectItemCaseSensitive(j, "duration");
+  int has_c = j && cJSON_GetObjectItemCaseSensitive(j, "cycles");
+  if (has_d && has_c)
+    return fc_fail(err, FC_EPARAM, "$.simulation.cycles", "give either duration or cycles, not both");
+  if (mixed && !has_p && (has_c || !has_d))
+    return fc_fail(err, FC_EPARAM, "$.simulation", "periodic sources have different periods "
+                   "(element \"%s\" differs); set simulation.cycle_period", other);
+  if (mixed && !has_p) s->cycle_period = 0;
+  if (has_c || (!has_d && s->cycle_period > 0)) {
+    if ((rc = fci_get_quantity(j, "cycles", FC_DIM_NONE, 0, 10, FCI_POS, &s->cycles, P, ctx, err)))
+      return rc;
+    if (s->cycle_period <= 0)
+      return fc_fail(err, FC_EPARAM, has_c ? "$.simulation.cycles" : "$.simulation",
+                     "cycles need a periodic source or simulation.cycle_period; give duration");
+    s->duration = s->cycles * s->cycle_period;
+  } else if ((rc = fci_get_quantity(j, "duration", FC_DIM_TIME, 1, 0, FCI_POS, &s->duration, P,
+                                    ctx, err))) {
+    return rc;
+  }
+  double dflt = s->cycle_period > 0 ? s->cycle_period / 100 : s->duration / 1000;
+  if ((rc = fci_get_quantity(j, "sample_interval", FC_DIM_TIME, 0, dflt, FCI_POS,
+                             &s->sample_interval, P, ctx, err)))
+    return rc;
+  if (s->duration / s->sample_interval > FC_MAX_SAMPLES)
+    return fc_fail(err, FC_EPARAM, "$.simulation.sample_interval", "%.3g s gives %.3g samples; "
+                   "the limit is %.0f rows", s->sample_interval, s->duration / s->sample_interval,
+                   FC_MAX_SAMPLES);
+  return FC_OK;
+}
+
+int fci_net_parse_sim(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc_error *err)
+{
+  const char *P = "$.simulation";
+  fci_sim_opts *s = &net->sim;
+  int rc;
+  if (j && !cJSON_IsObject(j)) return fc_fail(err, FC_EJSON, P, "expected an object");
+  if (j && (rc = fci_check_keys(j, sim_keys, NULL, P, err))) return rc;
+  if ((rc = parse_times(net, j, ctx, err))) return rc;
+  /* Tolerance defaults: 1e-6 relative; 1 mPa absolute is 1e-5 of a typical 1 mbar signal;
+   * 1 pL and 1e-15 m^3/s (0.06 nL/min) are far below microfluidic volumes and flows. */
+  if ((rc = fci_get_quantity(j, "rel_tol", FC_DIM_NONE, 0, 1e-6, FCI_POS, &s->rel_tol, P, ctx, err)) ||
+      (rc = fci_get_quantity(j, "abs_tol", FC_DIM_PRESSURE, 0, 1e-3, FCI_POS, &s->abs_tol_p, P, ctx, err)) ||
+      (rc = fci_get_quantity(j, "abs_tol_volume", FC_DIM_VOLUME, 0, 1e-15, FCI_POS, &s->abs_tol_v, P, ctx, err)) ||
+      (rc = fci_get_quantity(j, "abs_tol_flow", FC_DIM_FLOW, 0, 1e-15, FCI_POS, &s->abs_tol_q, P, ctx, err)) ||
+      (rc = fci_get_quantity(j, "max_step", FC_DIM_TIME, 0, 0, FCI_NONNEG, &s->max_step, P, ctx, err)))
+    return rc;
+  if (s->rel_tol < 1e-14 || s->rel_tol > 0.1)
+    return fc_fail(err, FC_EPARAM, "$.simulation.rel_tol", "%g is outside 1e-14..0.1", s->rel_tol);
+  const cJSON *ini = j ? cJSON_GetObjectItemCaseSensitive(j, "initial") : NULL;
+  s->initial = FC_INIT_REST;
+  if (ini) {
+    if (cJSON_IsString(ini) && strcmp(ini->valuestring, "rest") == 0) s->initial = FC_INIT_REST;
+    else if (cJSON_IsString(ini) && strcmp(ini->valuestring, "steady") == 0) s->initial = FC_INIT_STEADY;
+    else return fc_fail(err, FC_EPARAM, "$.simulation.initial", "expected \"rest\" or \"steady\"");
+  }
+  return FC_OK;
+}
+
+static int report_unit(const cJSON *j, const char *key, fc_dim dim, const char *def, char *dst,
+                       size_t n, const fci_parse_ctx *ctx, fc_error *err)
+{
+  char p[64];
+  double f;
+  const cJSON *v = j ? cJSON_GetObjectItemCaseSensitive(j, key) : NULL;
+  fci_path_key(p, sizeof p, "$.report", key);
+  if (v && !cJSON_IsString(v)) return fc_fail(err, FC_EJSON, p, "expected a unit string");
+  const char *u = v ? v->valuestring : def;
+  if (strlen(u) >= n) return fc_fail(err, FC_EPARAM, p, "unit string too long");
+  int rc = fc_units_out_factor(ctx->units, u, dim, &f, p, err);
+  if (rc) { snprintf(err->path, sizeof err->path, "%s", p); return rc; }
+  snprintf(dst, n, "%s", u);
+  return FC_OK;
+}
+
+int fci_net_parse_report(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc_error *err)
+{
+  int rc;
+  if (j && !cJSON_IsObject(j)) return fc_fail(err, FC_EJSON, "$.report", "expected an object");
+  if (j && (rc = fci_check_keys(j, report_keys, NULL, "$.report", err))) return rc;
+  if ((rc = report_unit(j, "pressure_unit", FC_DIM_PRESSURE, "mbar", net->pressure_unit,
+                        sizeof net->pressure_unit, ctx, err)))
+    return rc;
+  return report_unit(j, "flow_unit", FC_DIM_FLOW, "uL/min", net->flow_unit, sizeof net->flow_unit,
+                     ctx, err);
+}

@@ -1,0 +1,92 @@
+/* ferrocirc — atomic output files (see output.h). */
+#define _POSIX_C_SOURCE 200809L
+#include <errno.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include "ferrocirc/alloc.h"
+#include "ferrocirc/output.h"
+
+struct fc_outfile {
+  FILE *f;
+  char *path;   /* destination */
+  char *tmp;    /* temporary beside it */
+};
+
+int fc_outfile_open(const char *path, fc_outfile **out, fc_error *err)
+{
+  *out = NULL;
+  fc_outfile *o = fc_calloc(1, sizeof *o);
+  size_t n = strlen(path) + 32;
+  if (!o || !(o->path = fc_strdup(path)) || !(o->tmp = fc_malloc(n))) {
+    if (o) { fc_free(o->path); fc_free(o); }
+    return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
+  }
+  snprintf(o->tmp, n, "%s.tmp-XXXXXX", path);
+  int fd = mkstemp(o->tmp);
+  if (fd < 0 || !(o->f = fdopen(fd, "w"))) {
+    int e = errno;
+    if (fd >= 0) { close(fd); unlink(o->tmp); }
+    fc_fail(err, FC_EIO, NULL, "cannot create output %s: %s", path, strerror(e));
+    fc_free(o->tmp); fc_free(o->path); fc_free(o);
+    return FC_EIO;
+  }
+  setvbuf(o->f, NULL, _IOFBF, 1 << 16);
+  *out = o;
+  return FC_OK;
+}
+
+FILE *fc_outfile_stream(fc_outfile *f) { return f->f; }
+
+static void drop(fc_outfile *o)
+{
+  fc_free(o->path);
+  fc_free(o->tmp);
+  fc_free(o);
+}
+
+int fc_outfile_commit(fc_outfile *o, fc_error *err)
+{
+  int bad = ferror(o->f) || fflush(o->f) != 0 || fsync(fileno(o->f)) != 0;
+  int e = errno;
+  if (fclose(o->f) != 0 && !bad) { bad = 1; e = errno; }
+  if (!bad && rename(o->tmp, o->path) != 0) { bad = 1; e = errno; }
+  if (bad) {
+    unlink(o->tmp);
+    fc_fail(err, FC_EIO, NULL, "writing %s failed: %s; nothing was written", o->path, strerror(e));
+    drop(o);
+    return FC_EIO;
+  }
+  drop(o);
+  return FC_OK;
+}
+
+void fc_outfile_abort(fc_outfile *o)
+{
+  if (!o) return;
+  fclose(o->f);
+  unlink(o->tmp);
+  drop(o);
+}
+
+int fc_outfile_keep_partial(fc_outfile *o, const char *note, fc_error *err)
+{
+  fprintf(o->f, "# %s\n", note);
+  int bad = fclose(o->f) != 0;
+  size_t n = strlen(o->path) + 16;
+  char *dst = fc_malloc(n);
+  if (!dst) { unlink(o->tmp); drop(o); return fc_fail(err, FC_ENOMEM, NULL, "out of memory"); }
+  snprintf(dst, n, "%s.partial", o->path);
+  if (bad || rename(o->tmp, dst) != 0) {
+    unlink(o->tmp);
+    fc_fail(err, FC_EIO, NULL, "keeping the partial output %s failed", dst);
+    fc_free(dst);
+    drop(o);
+    return FC_EIO;
+  }
+  fc_free(dst);
+  drop(o);
+  return FC_OK;
+}

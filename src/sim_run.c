@@ -1,0 +1,264 @@
+/* ferrocirc — one run's bookkeeping (see sim_run.h). */
+#include <math.h>
+#include <string.h>
+
+#include "ferrocirc/alloc.h"
+#include "sim_run.h"
+
+#define NEW(ptr, n) ((ptr) = fc_calloc((size_t)(n) > 0 ? (size_t)(n) : 1, sizeof *(ptr)))
+
+static int alloc_result(fci_run *R)
+{
+  fc_sim_result *r = fc_calloc(1, sizeof *r);
+  if (!(R->res = r)) return FC_ENOMEM;
+  int N = R->net->nNode, E = R->net->nElem;
+  r->nNode = N;
+  r->nElem = E;
+  r->cycle_period = R->net->sim.cycle_period;
+  if (!NEW(r->p_min, N) || !NEW(r->p_max, N) || !NEW(r->p_mean, N) || !NEW(r->q_min, E) ||
+      !NEW(r->q_max, E) || !NEW(r->q_mean, E) || !NEW(r->v_net, E) || !NEW(r->v_back, E) ||
+      !NEW(r->v_stored, N) || !NEW(r->v_inflow, N))
+    return FC_ENOMEM;
+  int ncyc = r->cycle_period > 0 ? (int)floor(R->net->sim.duration / r->cycle_period + 1e-9) : 0;
+  if (!NEW(r->cyc_v_net, (size_t)ncyc * E) || !NEW(r->cyc_v_back, (size_t)ncyc * E)) return FC_ENOMEM;
+  for (int n = 0; n < N; n++) { r->p_min[n] = INFINITY; r->p_max[n] = -INFINITY; }
+  for (int i = 0; i < E; i++) {
+    int two = R->net->elem[i].nTerm == 2;
+    r->q_min[i] = two ? INFINITY : NAN;
+    r->q_max[i] = two ? -INFINITY : NAN;
+    r->q_mean[i] = two ? 0 : NAN;
+  }
+  return FC_OK;
+}
+
+int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err)
+{
+  memset(R, 0, sizeof *R);
+  R->net = net;
+  R->sink = sink;
+  int rc = fci_sys_build(net, &R->sys, err);
+  if (rc) return rc;
+  fci_sys *s = R->sys;
+  int E = net->nElem;
+  if (!NEW(R->qoff, E) || !NEW(R->qbuf, E) || !NEW(R->modes, E) || !NEW(R->corner_el, E) ||
+      !NEW(R->rootsfound, s->nroot) || !NEW(R->x0, s->nx) || !NEW(R->v0, s->ns) || alloc_result(R))
+    return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
+  for (int i = 0; i < E; i++) {
+    const fc_elem *e = &net->elem[i];
+    R->qoff[i] = e->nTerm == 2 ? R->nq : -1;
+    if (e->nTerm == 2) R->nq += 2;
+    if (e->type->xCorner) R->corner_el[R->ncorner++] = i;
+  }
+  R->qp = R->nq;
+  R->nq += net->nNode;
+  R->qs = R->nq;
+  R->nq += s->ns;
+  if (!NEW(R->vq_cycle, R->nq)) return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
+  R->dt = net->sim.sample_interval;
+  R->next_cycle = net->sim.cycle_period > 0 ? net->sim.cycle_period : INFINITY;
+  fci_sys_rest(s, R->x0);
+  if (net->sim.initial == FC_INIT_STEADY && s->nx && (rc = fci_sys_steady(s, 0.0, R->x0, err)))
+    return rc;
+  return FC_OK;
+}
+
+void fci_run_free(fci_run *R)
+{
+  fci_sys_free(R->sys);
+  fc_sim_result_free(R->res);
+  fc_free(R->qoff); fc_free(R->qbuf); fc_free(R->modes); fc_free(R->corner_el);
+  fc_free(R->rootsfound); fc_free(R->x0); fc_free(R->v0); fc_free(R->vq_cycle);
+  memset(R, 0, sizeof *R);
+}
+
+void fc_sim_result_free(fc_sim_result *r)
+{
+  if (!r) return;
+  fc_free(r->p_min); fc_free(r->p_max); fc_free(r->p_mean); fc_free(r->q_min); fc_free(r->q_max);
+  fc_free(r->q_mean); fc_free(r->v_net); fc_free(r->v_back); fc_free(r->v_stored);
+  fc_free(r->v_inflow); fc_free(r->cyc_v_net); fc_free(r->cyc_v_back);
+  fc_free(r);
+}
+
+void fci_run_quad_rhs(const fci_run *R, double *dq)
+{
+  const fci_sys *s = R->sys;
+  for (int i = 0; i < s->nE; i++) {
+    int o = R->qoff[i];
+    if (o < 0) continue;
+    dq[o] = s->q[i];
+    dq[o + 1] = s->q[i] < 0 ? -s->q[i] : 0;
+  }
+  for (int n = 0; n < s->nN; n++) dq[R->qp + n] = s->p[n];
+  for (int k = 0; k < s->ns; k++) dq[R->qs + k] = s->qin[s->xnode[k]];
+}
+
+static void extremes(fci_run *R)
+{
+  const fci_sys *s = R->sys;
+  fc_sim_result *r = R->res;
+  for (int n = 0; n < s->nN; n++) {
+    if (s->p[n] < r->p_min[n]) r->p_min[n] = s->p[n];
+    if (s->p[n] > r->p_max[n]) r->p_max[n] = s->p[n];
+  }
+  for (int i = 0; i < s->nE; i++) {
+    if (R->qoff[i] < 0) continue;
+    if (s->q[i] < r->q_min[i]) r->q_min[i] = s->q[i];
+    if (s->q[i] > r->q_max[i]) r->q_max[i] = s->q[i];
+  }
+}
+
+static int emit(fci_run *R, double t, fc_error *err)
+{
+  const fci_sys *s = R->sys;
+  if (!R->sink || !R->sink->xSample) return FC_OK;
+  for (int i = 0; i < s->nE; i++) {
+    R->qbuf[i] = R->qoff[i] >= 0 ? s->q[i] : NAN;
+    R->modes[i] = R->net->elem[i].mode;
+  }
+  if (R->sink->xSample(R->sink->ctx, t, s->p, R->qbuf, R->modes))
+    return fc_fail(err, FC_EIO, NULL, "writing the sample at t = %.9g s failed", t);
+  return FC_OK;
+}
+
+static int eval_or_fail(fci_run *R, double t, const double *x, fc_error *err)
+{
+  if (fci_sys_eval(R->sys, t, R->sys->nx ? x : NULL))
+    return fc_fail(err, FC_ESOLVE, NULL, "the conservation equations at the algebraic nodes are "
+                   "singular at t = %.9g s (a part of the network is cut off by closed valves "
+                   "with zero leak?)", t);
+  return FC_OK;
+}
+
+int fci_run_begin(fci_run *R, const double *yq, fc_error *err)
+{
+  int rc = eval_or_fail(R, 0.0, R->x0, err);
+  if (rc) return rc;
+  for (int k = 0; k < R->sys->ns; k++)
+    R->v0[k] = fci_sys_store_volume(R->sys, 0.0, k, R->x0[k]);
+  memcpy(R->vq_cycle, yq, (size_t)R->nq * sizeof *yq);
+  extremes(R);
+  R->next_sample = 1;
+  return emit(R, 0.0, err);
+}
+
+double fci_run_next_stop(const fci_run *R, double t)
+{
+  double ts = R->net->sim.duration;
+  if (R->next_cycle < ts) ts = R->next_cycle;
+  for (int k = 0; k < R->ncorner; k++) {
+    const fc_elem *e = &R->net->elem[R->corner_el[k]];
+    double c = e->type->xCorner(e, t * (1 + 1e-14) + 1e-300);
+    if (c < ts) ts = c;
+  }
+  return ts;
+}
+
+int fci_run_pending_sample(fci_run *R, double t, double *ts)
+{
+  double tend = R->net->sim.duration, cand = (double)R->next_sample * R->dt;
+  if (cand > tend * (1 + 1e-12)) {
+    if (R->final_done || t < tend * (1 - 1e-14)) return 0;
+    double last = (double)(R->next_sample - 1) * R->dt;
+    R->final_done = 1;
+    if (fabs(last - tend) <= 1e-9 * R->dt) return 0;
+    *ts = tend;
+    return 1;
+  }
+  if (cand > t * (1 + 1e-14)) return 0;
+  if (cand > t) cand = t;
+  if (cand > tend) cand = tend;
+  *ts = cand;
+  R->next_sample++;
+  return 1;
+}
+
+int fci_run_sample(fci_run *R, double ts, const double *x, fc_error *err)
+{
+  int rc = eval_or_fail(R, ts, x, err);
+  return rc ? rc : emit(R, ts, err);
+}
+
+int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, fc_error *err)
+{
+  int rc = eval_or_fail(R, t, x, err);
+  if (rc) return rc;
+  extremes(R);
+  fc_sim_result *r = R->res;
+  double T = R->net->sim.cycle_period;
+  if (T > 0 && t >= R->next_cycle * (1 - 1e-12)) {
+    int c = r->nCycle, E = R->net->nElem;
+    int cap = (int)floor(R->net->sim.duration / T + 1e-9);
+    if (c < cap) {
+      for (int i = 0; i < E; i++) {
+        int o = R->qoff[i];
+        r->cyc_v_net[(size_t)c * E + i] = o >= 0 ? yq[o] - R->vq_cycle[o] : NAN;
+        r->cyc_v_back[(size_t)c * E + i] = o >= 0 ? yq[o + 1] - R->vq_cycle[o + 1] : NAN;
+      }
+      r->nCycle++;
+    }
+    memcpy(R->vq_cycle, yq, (size_t)R->nq * sizeof *yq);
+    R->next_cycle = (double)(c + 2) * T;
+  }
+  return FC_OK;
+}
+
+int fci_run_events(fci_run *R, double t, const double *x, const int *found, int *changed,
+                   fc_error *err)
+{
+  fci_sys *s = R->sys;
+  int rc = eval_or_fail(R, t, x, err);
+  if (rc) return rc;
+  *changed = 0;
+  for (int i = 0; i < s->nE; i++) {
+    fc_elem *e = &R->net->elem[i];
+    if (!e->nRoot || !e->type->xEvent) continue;
+    int any = 0;
+    for (int k = 0; k < e->nRoot; k++) any |= found[e->iRoot + k] != 0;
+    if (!any) continue;
+    double pp[2] = {s->p[e->node[0]], e->nTerm == 2 ? s->p[e->node[1]] : 0};
+    int old = e->mode;
+    if (!e->type->xEvent(e, t, found + e->iRoot, pp, e->nState ? x + e->iState : NULL)) continue;
+    *changed = 1;
+    s->gdirty = 1;
+    R->res->stats.events++;
+    if (R->sink && R->sink->xEvent && R->sink->xEvent(R->sink->ctx, t, i, old, e->mode, pp[0] - pp[1]))
+      return fc_fail(err, FC_EIO, NULL, "writing the event at t = %.9g s failed", t);
+  }
+  return FC_OK;
+}
+
+int fci_run_finish(fci_run *R, double t, const double *x, const double *yq, fc_error *err)
+{
+  fci_sys *s = R->sys;
+  fc_sim_result *r = R->res;
+  int rc = eval_or_fail(R, t, x, err);
+  if (rc) return rc;
+  r->t_end = t;
+  double T = t > 0 ? t : 1;
+  for (int i = 0; i < s->nE; i++) {
+    int o = R->qoff[i];
+    if (o < 0) continue;
+    r->v_net[i] = yq[o];
+    r->v_back[i] = yq[o + 1];
+    r->q_mean[i] = yq[o] / T;
+  }
+  for (int n = 0; n < s->nN; n++) r->p_mean[n] = t > 0 ? yq[R->qp + n] / T : s->p[n];
+  for (int k = 0; k < s->ns; k++) {
+    int n = s->xnode[k];
+    r->v_stored[n] = fci_sys_store_volume(s, t, k, x[k]) - R->v0[k];
+    r->v_inflow[n] = yq[R->qs + k];
+  }
+  return FC_OK;
+}
+
+const char *fci_run_state_owner(const fci_run *R, int k)
+{
+  const fci_sys *s = R->sys;
+  if (k < s->ns) return R->net->elem[s->store_el[s->store_ptr[k]]].id;
+  for (int i = 0; i < s->nE; i++) {
+    const fc_elem *e = &R->net->elem[i];
+    if (e->nState && k >= e->iState && k < e->iState + e->nState) return e->id;
+  }
+  return "(unknown)";
+}

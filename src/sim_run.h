@@ -1,0 +1,54 @@
+/* ferrocirc — bookkeeping of one run, independent of SUNDIALS: samples, extremes, volumes,
+ * cycles and events (src/sim_run.c). sim.c drives it. */
+#ifndef FERROCIRC_SIM_RUN_H
+#define FERROCIRC_SIM_RUN_H
+
+#include "ferrocirc/sim.h"
+#include "sys.h"
+
+typedef struct fci_run {
+  fc_net *net;
+  fci_sys *sys;
+  const fc_sim_sink *sink;   /* may be NULL */
+  fc_sim_result *res;
+  double *x0;                /* initial state (nx) */
+  int nq;                    /* quadratures: 2 per two-terminal element, 1 per node, 1 per store */
+  int *qoff;                 /* per element: offset of its 2 quadratures, -1 if one-terminal */
+  int qp, qs;                /* offsets of the node-pressure and store-inflow quadratures */
+  int *rootsfound;           /* nroot */
+  int *corner_el;            /* elements with an xCorner slot */
+  int ncorner;
+  double *qbuf;              /* nElem: flows handed to the sink (NaN for one-terminal) */
+  int *modes;                /* nElem */
+  double *vq_cycle;          /* quadrature values at the start of the current cycle (nq) */
+  double *v0;                /* per store index: stored volume at t = 0 */
+  double dt;                 /* sample interval */
+  long next_sample;          /* index k of the next sample time k dt */
+  int final_done;            /* the extra sample at the duration has been written */
+  double next_cycle;         /* time of the next cycle boundary, +inf if none */
+  char cv_msg[512];          /* last message from CVODE's error handler */
+} fci_run;
+
+int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err);
+void fci_run_free(fci_run *R);
+/* At t = 0: first sample and extremes; yq holds the zeroed quadratures. */
+int fci_run_begin(fci_run *R, const double *yq, fc_error *err);
+/* Earliest of the duration, the next cycle boundary and the next waveform corner after t. */
+double fci_run_next_stop(const fci_run *R, double t);
+/* If a sample is due at or before t, set *ts and return 1 (the sample is then consumed by
+ * fci_run_sample). */
+int fci_run_pending_sample(fci_run *R, double t, double *ts);
+int fci_run_sample(fci_run *R, double ts, const double *x, fc_error *err);
+/* After each internal step: extremes, cycle boundaries. */
+int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, fc_error *err);
+/* At a root: let elements switch mode; *changed = 1 if any did. */
+int fci_run_events(fci_run *R, double t, const double *x, const int *found, int *changed,
+                   fc_error *err);
+/* Final sample and means. */
+int fci_run_finish(fci_run *R, double t, const double *x, const double *yq, fc_error *err);
+/* Quadrature integrands after fci_sys_eval. */
+void fci_run_quad_rhs(const fci_run *R, double *dq);
+/* Id of the element owning state component k (a store node's first compliance). */
+const char *fci_run_state_owner(const fci_run *R, int k);
+
+#endif

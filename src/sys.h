@@ -1,0 +1,113 @@
+/* ferrocirc — the assembled ODE system of a network (internal; used by sim.c and check).
+ *
+ * Unknowns. Every node is one of
+ *   FIXED  pressure imposed: by a reservoir, or through an ideal pressure source (LINK) from
+ *          another fixed node;
+ *   STORE  has compliance: its pressure is an ODE state, C(p) dp/dt = sum of inflows + qext;
+ *   ALG    neither: its pressure is algebraic, fixed by conservation sum q_in = 0.
+ * The ODE state is x = [pressures of STORE nodes, own states of elements (inertance flows)].
+ * ALG pressures z are eliminated exactly: every right-hand side solves G z = -F(z0) (Newton;
+ * one step when every element is affine in pressure, as all built-in ones are within a mode)
+ * with a KLU factorisation of G that is reused until a mode switch changes it. No parasitic
+ * compliance is added anywhere.
+ *
+ * Newton matrix. CVODE needs solves with I - gamma J, J = df/dx including dz/dx. Forming J
+ * would fill in (a tree's leaves all couple through its junctions), so instead the sparse
+ * augmented system
+ *     [ diag(C) - gamma dQ/dx + gamma C'Q/C   -gamma dQ/dz ] [dx]   [C r]
+ *     [ dF/dx                                  dF/dz       ] [dz] = [ 0 ]
+ * (store rows scaled by C; own-state rows are I - gamma J_own) is factored with KLU; its Schur
+ * complement on dx is exactly C (I - gamma J). It serves as an exact preconditioner for CVODE's
+ * GMRES, which therefore converges in one or two iterations, at a cost linear in network size. */
+#ifndef FERROCIRC_SYS_H
+#define FERROCIRC_SYS_H
+
+#include <klu.h>
+
+#include "net.h"
+
+enum { FCI_NODE_ALG = 0, FCI_NODE_STORE, FCI_NODE_FIXED };
+
+typedef struct fci_csc {
+  int n, nnz;
+  int *colptr, *rowind; /* CSC pattern, row indices sorted within each column */
+  double *val;
+} fci_csc;
+
+typedef struct fci_klu {
+  klu_symbolic *sym;
+  klu_numeric *num;
+  klu_common common;
+} fci_klu;
+
+typedef struct fci_sys {
+  fc_net *net;              /* borrowed */
+  int nN, nE;
+  int *kind;                /* per node: FCI_NODE_* */
+  int *idx;                 /* per node: index in x (STORE) or z (ALG), -1 for FIXED */
+  int ns, no, nx, nz;       /* store nodes, own states, nx = ns + no, nz = alg nodes */
+  int nroot;                /* event functions in all */
+  int *fix_order;           /* FIX and LINK elements in evaluation order (nfix) */
+  int *fix_node;            /* the node each of them fixes */
+  int nfix;
+  int *store_ptr, *store_el;/* per STORE node k: its store elements store_el[store_ptr[k]..] */
+  int *xnode;               /* per store index k: node */
+  int *znode;               /* per alg index i: node */
+  /* work, all length nN or nE */
+  double *p;                /* node pressures at the last evaluation */
+  double *q;                /* element flows (FLOW and LINK), from -> to */
+  double *dqa, *dqb;        /* dq/dp(from), dq/dp(to) */
+  double *dqx;              /* dq/dx_own, FCI_MAX_OWN per element */
+  double *qin;              /* net inflow per node */
+  double *Csum, *dCsum;     /* per store index: total compliance and its p-derivative */
+  double *zbuf;             /* nz: Newton update */
+  /* algebraic solve */
+  fci_csc G;                /* dF/dz */
+  int *gslot;               /* per element 4 slots in G (from/from, from/to, to/from, to/to) */
+  fci_klu gk;
+  int gdirty;               /* 1: G must be refactored before the next solve */
+  int nonlinear;            /* 1 if some element is not affine in pressure */
+  /* augmented Newton matrix */
+  fci_csc A;
+  int *aslot;               /* slot per stamped entry, consumed in stamp order */
+  int naslot;
+  fci_klu ak;
+  int afactored;
+  double *abuf;             /* nx + nz */
+  double *Cpre;             /* per store index: compliance at the last preconditioner setup */
+  long nGfact, nAfact;      /* factorisations done, for statistics */
+} fci_sys;
+
+/* Classify nodes, check topology, build patterns and symbolic factorisations. */
+int fci_sys_build(fc_net *net, fci_sys **out, fc_error *err);
+void fci_sys_free(fci_sys *s);
+
+/* Evaluate every node pressure, element flow and node inflow at (t, x); x may be NULL when
+ * nx == 0. Returns 0, or >0 if the algebraic solve failed (singular: recoverable by a smaller
+ * step only if caused by a transient state; the caller decides). */
+int fci_sys_eval(fci_sys *s, double t, const double *x);
+/* After fci_sys_eval: f = dx/dt into xdot (length nx). */
+int fci_sys_rhs_from_eval(fci_sys *s, double t, const double *x, double *xdot);
+/* Newton preconditioner: assemble and factor at (t, x, gamma); solve in place on r (length nx). */
+int fci_sys_psetup(fci_sys *s, double t, const double *x, double gamma);
+int fci_sys_psolve(fci_sys *s, double *r);
+/* Event functions (length nroot) after fci_sys_eval. */
+void fci_sys_roots(fci_sys *s, double t, const double *x, double *g);
+/* Steady state at time t with every source at its t value: solves sum q = 0 at every STORE and
+ * ALG node and xdot_own = 0; x in/out. FC_ETOPO if the steady state is undetermined. */
+int fci_sys_steady(fci_sys *s, double t, double *x, fc_error *err);
+/* Initial state "rest": store pressures 0 gauge, own states 0. */
+void fci_sys_rest(const fci_sys *s, double *x);
+/* Stored volume relative to 0 gauge at the given store index (sum over its elements). */
+double fci_sys_store_volume(const fci_sys *s, double t, int k, double p);
+
+/* Sparse helpers (src/sys_sparse.c). Build the CSC pattern of n x n entries (rows[k], cols[k])
+ * for k < m; slot[k] receives the value index of entry k (duplicates share one). */
+int fci_csc_build(fci_csc *c, int n, int m, const int *rows, const int *cols, int *slot);
+void fci_csc_free(fci_csc *c);
+/* Factor (full) or refactor (same pivots; falls back to full when ill-conditioned). */
+int fci_klu_factor(fci_klu *k, const fci_csc *c, int refactor);
+int fci_klu_solve(fci_klu *k, const fci_csc *c, double *b);
+void fci_klu_free(fci_klu *k);
+
+#endif

@@ -1,0 +1,271 @@
+/* ferrocirc — evaluating the assembled system: pressures, flows, right-hand side, events.
+ * See sys.h for the formulation (exact elimination of algebraic nodes). */
+#include <math.h>
+#include <string.h>
+
+#include "sys.h"
+
+#define NEWTON_MAX 30 /* algebraic Newton iterations for nonlinear elements; affine ones need 1 */
+
+static void fixed_pressures(fci_sys *s, double t)
+{
+  const fc_net *net = s->net;
+  for (int k = 0; k < s->nfix; k++) {
+    const fc_elem *e = &net->elem[s->fix_order[k]];
+    double v = e->type->xFix(e, t);
+    int d = s->fix_node[k];
+    if (e->role == FC_ROLE_FIX) s->p[d] = v;
+    else if (d == e->node[1]) s->p[d] = s->p[e->node[0]] + v; /* p(to) = p(from) + P */
+    else s->p[d] = s->p[e->node[1]] - v;
+  }
+}
+
+static void flows(fci_sys *s, double t, const double *x)
+{
+  const fc_net *net = s->net;
+  memset(s->qin, 0, (size_t)s->nN * sizeof *s->qin);
+  for (int i = 0; i < s->nE; i++) {
+    const fc_elem *e = &net->elem[i];
+    if (e->role != FC_ROLE_FLOW) continue;
+    double pp[2] = {s->p[e->node[0]], s->p[e->node[1]]};
+    fci_flow f = {0};
+    e->type->xFlow(e, t, pp, e->nState ? x + e->iState : NULL, &f);
+    s->q[i] = f.q;
+    s->dqa[i] = f.dq_dpa;
+    s->dqb[i] = f.dq_dpb;
+    memcpy(s->dqx + FCI_MAX_OWN * i, f.dq_dx, sizeof f.dq_dx);
+    s->qin[e->node[0]] -= f.q;
+    s->qin[e->node[1]] += f.q;
+  }
+}
+
+/* Conservation F_i = qin at each ALG node; dF/dz from the element partials. */
+static int assemble_G(fci_sys *s)
+{
+  const fc_net *net = s->net;
+  memset(s->G.val, 0, (size_t)s->G.nnz * sizeof *s->G.val);
+  for (int i = 0; i < s->nE; i++) {
+    if (net->elem[i].role != FC_ROLE_FLOW) continue;
+    const int *sl = s->gslot + 4 * i;
+    double d[2] = {s->dqa[i], s->dqb[i]};
+    for (int t = 0; t < 2; t++)
+      for (int u = 0; u < 2; u++)
+        if (sl[2 * t + u] >= 0) s->G.val[sl[2 * t + u]] += (t == 0 ? -d[u] : d[u]);
+  }
+  s->nGfact++;
+  return fci_klu_factor(&s->gk, &s->G, 0);
+}
+
+static int solve_alg(fci_sys *s, double t, const double *x)
+{
+  for (int it = 0; it < NEWTON_MAX; it++) {
+    if ((s->gdirty || s->nonlinear) && assemble_G(s)) return 1;
+    s->gdirty = 0;
+    for (int i = 0; i < s->nz; i++) s->zbuf[i] = -s->qin[s->znode[i]];
+    if (fci_klu_solve(&s->gk, &s->G, s->zbuf)) return 1;
+    double worst = 0;
+    for (int i = 0; i < s->nz; i++) {
+      double *pz = &s->p[s->znode[i]];
+      *pz += s->zbuf[i];
+      double r = fabs(s->zbuf[i]) / (fabs(*pz) + s->net->sim.abs_tol_p);
+      if (r > worst) worst = r;
+    }
+    flows(s, t, x);
+    if (!s->nonlinear || worst < 1e-12) return 0;
+  }
+  return 1;
+}
+
+/* Flows of ideal pressure sources follow from conservation at the node each one drives; the
+ * reverse of the fixing order settles chains of them from the far end inward. */
+static void link_flows(fci_sys *s)
+{
+  const fc_net *net = s->net;
+  for (int k = s->nfix - 1; k >= 0; k--) {
+    int i = s->fix_order[k], d = s->fix_node[k];
+    const fc_elem *e = &net->elem[i];
+    if (e->role != FC_ROLE_LINK) continue;
+    double q = (d == e->node[1]) ? -s->qin[d] : s->qin[d];
+    s->q[i] = q;
+    s->qin[e->node[0]] -= q;
+    s->qin[e->node[1]] += q;
+  }
+}
+
+int fci_sys_eval(fci_sys *s, double t, const double *x)
+{
+  fixed_pressures(s, t);
+  for (int k = 0; k < s->ns; k++) s->p[s->xnode[k]] = x[k];
+  flows(s, t, x);
+  if (s->nz > 0 && solve_alg(s, t, x)) return 1;
+  link_flows(s);
+  return 0;
+}
+
+static void store_sums(fci_sys *s, double t, double *Cs, double *dCs, double *qext)
+{
+  const fc_net *net = s->net;
+  for (int k = 0; k < s->ns; k++) {
+    double C = 0, dC = 0, qe = 0, p = s->p[s->xnode[k]];
+    for (int j = s->store_ptr[k]; j < s->store_ptr[k + 1]; j++) {
+      const fc_elem *e = &net->elem[s->store_el[j]];
+      double c, dc, q;
+      e->type->xStore(e, t, p, &c, &dc, &q);
+      C += c;
+      dC += dc;
+      qe += q;
+    }
+    Cs[k] = C;
+    if (dCs) dCs[k] = dC;
+    if (qext) qext[k] = qe;
+  }
+}
+
+int fci_sys_rhs_from_eval(fci_sys *s, double t, const double *x, double *xdot)
+{
+  const fc_net *net = s->net;
+  double J[FCI_MAX_OWN * (2 + FCI_MAX_OWN)];
+  store_sums(s, t, s->Csum, NULL, xdot);
+  for (int k = 0; k < s->ns; k++) {
+    if (!(s->Csum[k] > 0)) return 1; /* a gas bubble compressed to nothing: retry smaller */
+    xdot[k] = (s->qin[s->xnode[k]] + xdot[k]) / s->Csum[k];
+  }
+  for (int i = 0; i < s->nE; i++) {
+    const fc_elem *e = &net->elem[i];
+    if (!e->nState) continue;
+    double pp[2] = {s->p[e->node[0]], s->p[e->node[1]]};
+    int rc = e->type->xRhs(e, t, pp, x + e->iState, xdot + e->iState, J);
+    if (rc) return rc;
+  }
+  return 0;
+}
+
+void fci_sys_roots(fci_sys *s, double t, const double *x, double *g)
+{
+  const fc_net *net = s->net;
+  for (int i = 0; i < s->nE; i++) {
+    const fc_elem *e = &net->elem[i];
+    if (!e->nRoot) continue;
+    double pp[2] = {s->p[e->node[0]], e->nTerm == 2 ? s->p[e->node[1]] : 0};
+    e->type->xRoot(e, t, pp, e->nState ? x + e->iState : NULL, g + e->iRoot);
+  }
+}
+
+void fci_sys_rest(const fci_sys *s, double *x)
+{
+  for (int k = 0; k < s->nx; k++) x[k] = 0;
+}
+
+double fci_sys_store_volume(const fci_sys *s, double t, int k, double p)
+{
+  const fc_net *net = s->net;
+  double v = 0;
+  for (int j = s->store_ptr[k]; j < s->store_ptr[k + 1]; j++) {
+    const fc_elem *e = &net->elem[s->store_el[j]];
+    if (e->type->xVolume) v += e->type->xVolume(e, t, p);
+    else {
+      double c, dc, q;
+      e->type->xStore(e, t, p, &c, &dc, &q);
+      v += c * p;
+    }
+  }
+  return v;
+}
+
+/* ---- Newton matrix (see sys.h) ---- */
+
+/* Values in the order of sys_layout.c's walk_aug. steady: diag(C) dropped and gamma = 1. */
+static void stamp_aug(fci_sys *s, double t, const double *x, double gamma, int steady)
+{
+  const fc_net *net = s->net;
+  double *A = s->A.val, J[FCI_MAX_OWN * (2 + FCI_MAX_OWN)], tmp[FCI_MAX_OWN];
+  int k = 0;
+  memset(A, 0, (size_t)s->A.nnz * sizeof *A);
+  for (int r = 0; r < s->nx; r++, k++) {
+    if (r < s->ns) {
+      int n = s->xnode[r];
+      double qe = s->abuf[r]; /* qext, left there by fci_sys_psetup */
+      A[s->aslot[k]] += steady ? 0 : s->Cpre[r] + gamma * s->dCsum[r] / s->Cpre[r] * (s->qin[n] + qe);
+    } else A[s->aslot[k]] += steady ? 0 : 1;
+  }
+  for (int i = 0; i < s->nE; i++) {
+    const fc_elem *e = &net->elem[i];
+    if (e->role != FC_ROLE_FLOW) continue;
+    int kind[2] = {s->kind[e->node[0]], s->kind[e->node[1]]};
+    double d[2] = {s->dqa[i], s->dqb[i]}, *dx = s->dqx + FCI_MAX_OWN * i;
+    for (int t2 = 0; t2 < 2; t2++) {
+      if (kind[t2] == FCI_NODE_FIXED) continue;
+      double f = (kind[t2] == FCI_NODE_STORE ? -gamma : 1.0) * (t2 == 0 ? -1.0 : 1.0);
+      for (int u = 0; u < 2; u++) if (kind[u] != FCI_NODE_FIXED) A[s->aslot[k++]] += f * d[u];
+      for (int m = 0; m < e->nState; m++) A[s->aslot[k++]] += f * dx[m];
+    }
+    if (!e->nState) continue;
+    int w = 2 + e->nState;
+    double pp[2] = {s->p[e->node[0]], s->p[e->node[1]]};
+    e->type->xRhs(e, t, pp, x + e->iState, tmp, J);
+    for (int r = 0; r < e->nState; r++) {
+      for (int u = 0; u < 2; u++) if (kind[u] != FCI_NODE_FIXED) A[s->aslot[k++]] -= gamma * J[r * w + u];
+      for (int m = 0; m < e->nState; m++) A[s->aslot[k++]] -= gamma * J[r * w + 2 + m];
+    }
+  }
+}
+
+static int setup(fci_sys *s, double t, const double *x, double gamma, int steady)
+{
+  if (fci_sys_eval(s, t, x)) return 1;
+  store_sums(s, t, s->Cpre, s->dCsum, s->abuf);
+  stamp_aug(s, t, x, gamma, steady);
+  s->nAfact++;
+  int rc = fci_klu_factor(&s->ak, &s->A, s->afactored);
+  s->afactored = (rc == FC_OK);
+  return rc ? 1 : 0;
+}
+
+int fci_sys_psetup(fci_sys *s, double t, const double *x, double gamma)
+{
+  if (s->nx == 0) return 0;
+  return setup(s, t, x, gamma, 0);
+}
+
+int fci_sys_psolve(fci_sys *s, double *r)
+{
+  if (s->nx == 0) return 0;
+  double *b = s->abuf;
+  for (int k = 0; k < s->nx; k++) b[k] = k < s->ns ? s->Cpre[k] * r[k] : r[k];
+  for (int i = 0; i < s->nz; i++) b[s->nx + i] = 0;
+  if (fci_klu_solve(&s->ak, &s->A, b)) return 1;
+  memcpy(r, b, (size_t)s->nx * sizeof *r);
+  return 0;
+}
+
+int fci_sys_steady(fci_sys *s, double t, double *x, fc_error *err)
+{
+  double J[FCI_MAX_OWN * (2 + FCI_MAX_OWN)];
+  for (int it = 0; it < NEWTON_MAX; it++) {
+    if (setup(s, t, x, 1.0, 1))
+      return fc_fail(err, FC_ETOPO, "$.simulation.initial", "the steady state is undetermined "
+                     "(a part of the network with compliance has no path to a reservoir, or a "
+                     "loop has no resistance); use \"initial\": \"rest\"");
+    double *b = s->abuf, worst = 0;
+    /* Residual R = [-(qin + qext) at stores; -xdot_own; qin at ALG (already 0)]; solve A d = -R. */
+    store_sums(s, t, s->Csum, NULL, b);
+    for (int k = 0; k < s->ns; k++) b[k] = s->qin[s->xnode[k]] + b[k];
+    for (int i = 0; i < s->nE; i++) {
+      const fc_elem *e = &s->net->elem[i];
+      if (!e->nState) continue;
+      double pp[2] = {s->p[e->node[0]], s->p[e->node[1]]};
+      e->type->xRhs(e, t, pp, x + e->iState, b + e->iState, J);
+    }
+    for (int i = 0; i < s->nz; i++) b[s->nx + i] = 0;
+    if (fci_klu_solve(&s->ak, &s->A, b))
+      return fc_fail(err, FC_ESOLVE, "$.simulation.initial", "steady-state solve failed");
+    for (int k = 0; k < s->nx; k++) {
+      x[k] += b[k];
+      double r = fabs(b[k]) / (fabs(x[k]) + (k < s->ns ? s->net->sim.abs_tol_p : s->net->sim.abs_tol_q));
+      if (r > worst) worst = r;
+    }
+    if (worst < 1e-12) return fci_sys_eval(s, t, x) ? FC_ESOLVE : FC_OK;
+  }
+  return fc_fail(err, FC_ESOLVE, "$.simulation.initial", "steady state did not converge in %d "
+                 "Newton iterations", NEWTON_MAX);
+}

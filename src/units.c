@@ -1,0 +1,291 @@
+/* ferrocirc — unit strings in, SI inside (see include/ferrocirc/units.h).
+ *
+ * UDUNITS-2 does the unit algebra; we split "NUMBER UNIT" ourselves (UDUNITS would read "3 mbar"
+ * as the unit 300 Pa) and check the dimension with ut_are_convertible against the SI unit of the
+ * expected fc_dim. A few symbols of the database are corrected or added at open time:
+ *   torr, Torr  UDUNITS makes torr an alias of mmHg (133.322 387 415 Pa); the torr is
+ *               101 325/760 Pa = 133.322 368 4 Pa exactly (NIST SP 811, App. B), 1.4e-7 apart.
+ *   Oe          UDUNITS defines 79.57747 A/m (7 digits); 1 Oe = 1000/(4 pi) A/m (NIST SP 811),
+ *               2e-8 relative apart.
+ *   rpm, bpm    UDUNITS rpm is 2 pi/60 rad/s, which as a frequency would mean 0.105 Hz per rpm;
+ *               we mean revolutions (or beats) per minute = 1/60 Hz.
+ *   deg, P, G   added: arc degree, poise (so "cP" works), gauss.
+ * mmHg (13 595.1 kg/m3 * gn * 1 mm = 133.322 387 415 Pa), cmH2O (98.0665 Pa) and psi agree with the
+ * conventional values of NIST SP 811 to better than 1e-12 and are used as they are. */
+#include "ferrocirc/units.h"
+
+#include <cjson/cJSON.h>
+#include <ctype.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <udunits2.h>
+
+#include "ferrocirc/alloc.h"
+
+#define UNIT_TEXT_MAX 200 /* longest quantity string we accept */
+
+struct fc_units {
+  ut_system *sys;
+  ut_unit   *si[FC_DIM_COUNT]; /* SI unit of each dimension */
+};
+
+typedef struct dim_info {
+  const char *name;    /* human name for messages */
+  const char *si;      /* SI symbol as shown to users */
+  const char *ut;      /* the same, as UDUNITS parses it */
+  const char *example; /* a typical quantity string */
+} dim_info;
+
+static const dim_info dims[FC_DIM_COUNT] = {
+  [FC_DIM_NONE]         = {"dimensionless number", "1", "1", "0.5"},
+  [FC_DIM_LENGTH]       = {"length", "m", "m", "500 um"},
+  [FC_DIM_AREA]         = {"area", "m2", "m2", "0.01 mm2"},
+  [FC_DIM_VOLUME]       = {"volume", "m3", "m3", "10 uL"},
+  [FC_DIM_TIME]         = {"time", "s", "s", "5 s"},
+  [FC_DIM_FREQUENCY]    = {"frequency", "Hz", "s-1", "2 Hz"},
+  [FC_DIM_PRESSURE]     = {"pressure", "Pa", "Pa", "20 mbar"},
+  [FC_DIM_FLOW]         = {"flow rate", "m3/s", "m3/s", "10 uL/min"},
+  [FC_DIM_VISCOSITY]    = {"viscosity", "Pa.s", "Pa.s", "0.72 mPa.s"},
+  [FC_DIM_DENSITY]      = {"density", "kg/m3", "kg/m3", "998 kg/m3"},
+  [FC_DIM_RESISTANCE]   = {"hydraulic resistance", "Pa.s/m3", "Pa.s/m3", "1e12 Pa.s/m3"},
+  [FC_DIM_CONDUCTANCE]  = {"hydraulic conductance", "m3/(Pa.s)", "m3/(Pa.s)", "1e-12 m3/(Pa.s)"},
+  [FC_DIM_COMPLIANCE]   = {"compliance", "m3/Pa", "m3/Pa", "1e-15 m3/Pa"},
+  [FC_DIM_INERTANCE]    = {"inertance", "Pa.s2/m3", "Pa.s2/m3", "1e9 Pa.s2/m3"},
+  [FC_DIM_TENSION]      = {"surface tension", "N/m", "N/m", "72 mN/m"},
+  [FC_DIM_FIELD]        = {"magnetic field", "A/m", "A/m", "20 kA/m"},
+  [FC_DIM_FLUX_DENSITY] = {"magnetic flux density", "T", "T", "300 mT"},
+  [FC_DIM_ANGLE]        = {"angle", "rad", "rad", "90 deg"},
+  [FC_DIM_TEMPERATURE]  = {"temperature", "K", "K", "37 degC"},
+  [FC_DIM_STRESS]       = {"stress", "Pa", "Pa", "0.5 Pa"},
+};
+
+const char *fc_dim_si_name(fc_dim dim)
+{
+  return (dim >= 0 && dim < FC_DIM_COUNT) ? dims[dim].si : "?";
+}
+
+const char *fc_dim_name(fc_dim dim)
+{
+  return (dim >= 0 && dim < FC_DIM_COUNT) ? dims[dim].name : "unknown quantity";
+}
+
+static const char *article(const char *word) { return strchr("aeiou", word[0]) ? "an" : "a"; }
+
+/* Map `symbol` (or, if is_name, the name) to the unit `def`, replacing any existing mapping. */
+static int remap(ut_system *sys, const char *symbol, int is_name, const char *def)
+{
+  ut_unit *u = ut_parse(sys, def, UT_ASCII);
+  if (!u) return -1;
+  int st;
+  if (is_name) {
+    ut_unmap_name_to_unit(sys, symbol, UT_ASCII);
+    st = ut_map_name_to_unit(symbol, UT_ASCII, u);
+  } else {
+    ut_unmap_symbol_to_unit(sys, symbol, UT_ASCII);
+    st = ut_map_symbol_to_unit(symbol, UT_ASCII, u);
+  }
+  ut_free(u);
+  return st == UT_SUCCESS ? 0 : -1;
+}
+
+static int add_symbols(ut_system *sys)
+{
+  int bad = 0;
+  bad |= remap(sys, "torr", 1, "133.32236842105263 Pa"); /* 101325/760 */
+  bad |= remap(sys, "Torr", 0, "133.32236842105263 Pa");
+  bad |= remap(sys, "Oe", 0, "79.577471545947668 A/m");   /* 1000/(4 pi) */
+  bad |= remap(sys, "oersted", 1, "79.577471545947668 A/m");
+  bad |= remap(sys, "rpm", 0, "1/min");
+  bad |= remap(sys, "bpm", 0, "1/min");
+  bad |= remap(sys, "deg", 0, "arc_degree");
+  bad |= remap(sys, "P", 0, "poise");
+  bad |= remap(sys, "G", 0, "gauss");
+  return bad;
+}
+
+int fc_units_open(fc_units **out, fc_error *err)
+{
+  *out = NULL;
+  fc_units *u = fc_calloc(1, sizeof *u);
+  if (!u) return fc_fail(err, FC_ENOMEM, NULL, "out of memory opening the unit system");
+  ut_set_error_message_handler(ut_ignore);
+  u->sys = ut_read_xml(NULL);
+  if (!u->sys) {
+    fc_units_free(u);
+    return fc_fail(err, FC_EIO, NULL, "cannot read the UDUNITS-2 unit database (status %d); "
+                   "is libudunits2-data installed?", (int)ut_get_status());
+  }
+  if (add_symbols(u->sys)) goto fail;
+  for (int d = 0; d < FC_DIM_COUNT; d++) {
+    u->si[d] = ut_parse(u->sys, dims[d].ut, UT_ASCII);
+    if (!u->si[d]) goto fail;
+  }
+  *out = u;
+  return FC_OK;
+fail:
+  fc_units_free(u);
+  return fc_fail(err, FC_EIO, NULL, "the UDUNITS-2 database lacks a unit ferrocirc needs");
+}
+
+void fc_units_free(fc_units *u)
+{
+  if (!u) return;
+  for (int d = 0; d < FC_DIM_COUNT; d++) ut_free(u->si[d]);
+  if (u->sys) ut_free_system(u->sys);
+  fc_free(u);
+}
+
+/* Strip ASCII blanks at both ends, in place. Not ut_trim: in UDUNITS 2.2.28 it shifts the text
+ * left but returns a pointer advanced by the number of leading blanks ("  psi" -> "i"). */
+static char *trim(char *s)
+{
+  while (*s == ' ' || *s == '\t' || *s == '\n' || *s == '\r') s++;
+  size_t n = strlen(s);
+  while (n && (s[n - 1] == ' ' || s[n - 1] == '\t' || s[n - 1] == '\n' || s[n - 1] == '\r'))
+    s[--n] = '\0';
+  return s;
+}
+
+/* Length of a leading decimal number (sign, digits, point, exponent) in s; 0 if none. Written by
+ * hand because strtod also takes "inf", "nan" and hex floats, none of which we want. */
+static size_t number_length(const char *s)
+{
+  size_t i = 0, nd = 0;
+  if (s[i] == '+' || s[i] == '-') i++;
+  while (isdigit((unsigned char)s[i])) i++, nd++;
+  if (s[i] == '.') {
+    i++;
+    while (isdigit((unsigned char)s[i])) i++, nd++;
+  }
+  if (!nd) return 0;
+  if (s[i] == 'e' || s[i] == 'E') {
+    size_t j = i + 1;
+    if (s[j] == '+' || s[j] == '-') j++;
+    if (isdigit((unsigned char)s[j])) {
+      while (isdigit((unsigned char)s[j])) j++;
+      i = j;
+    }
+  }
+  return i;
+}
+
+/* The first dimension the unit is convertible to, or -1. */
+static int classify(const fc_units *u, const ut_unit *unit)
+{
+  for (int d = 0; d < FC_DIM_COUNT; d++)
+    if (ut_are_convertible(unit, u->si[d])) return d;
+  return -1;
+}
+
+/* Parse the unit part `ustr` (already trimmed, non-empty) and check it against dim. */
+static int parse_unit(const fc_units *u, const char *text, const char *ustr, fc_dim dim,
+                      ut_unit **out, const char *path, fc_error *err)
+{
+  *out = ut_parse(u->sys, ustr, UT_UTF8);
+  if (!*out)
+    return fc_fail(err, FC_EPARAM, path, "\"%s\": unknown unit \"%s\"; expected %s %s such as "
+                   "\"%s\"", text, ustr, article(dims[dim].name), dims[dim].name,
+                   dims[dim].example);
+  if (ut_are_convertible(*out, u->si[dim])) return FC_OK;
+  int got = classify(u, *out);
+  ut_free(*out);
+  *out = NULL;
+  if (got >= 0)
+    return fc_fail(err, FC_EPARAM, path, "\"%s\" is %s %s, expected %s %s (%s)", text,
+                   article(dims[got].name), dims[got].name, article(dims[dim].name),
+                   dims[dim].name, dims[dim].si);
+  return fc_fail(err, FC_EPARAM, path, "\"%s\" has unit \"%s\", expected %s %s (%s)", text, ustr,
+                 article(dims[dim].name), dims[dim].name, dims[dim].si);
+}
+
+int fc_units_parse(const fc_units *u, const char *text, fc_dim dim, double *si,
+                   const char *path, fc_error *err)
+{
+  char buf[UNIT_TEXT_MAX + 1];
+  if (strlen(text) > UNIT_TEXT_MAX)
+    return fc_fail(err, FC_EPARAM, path, "quantity string longer than %d characters",
+                   UNIT_TEXT_MAX);
+  memcpy(buf, text, strlen(text) + 1);
+  char *s = trim(buf);
+  size_t n = number_length(s);
+  if (!n)
+    return fc_fail(err, FC_EPARAM, path, "\"%s\" does not start with a number; expected %s %s "
+                   "such as \"%s\"", text, article(dims[dim].name), dims[dim].name,
+                   dims[dim].example);
+  char *end;
+  double v = strtod(s, &end);
+  if (!isfinite(v)) return fc_fail(err, FC_EPARAM, path, "\"%s\": number out of range", text);
+  char *ustr = trim(s + n);
+  if (!*ustr) {
+    if (dim == FC_DIM_NONE) return *si = v, FC_OK;
+    return fc_fail(err, FC_EPARAM, path, "\"%s\" has no unit; expected %s %s such as \"%s\" "
+                   "(or a plain JSON number in %s)", text, article(dims[dim].name),
+                   dims[dim].name, dims[dim].example, dims[dim].si);
+  }
+  ut_unit *unit;
+  int rc = parse_unit(u, text, ustr, dim, &unit, path, err);
+  if (rc) return rc;
+  cv_converter *cv = ut_get_converter(unit, u->si[dim]);
+  ut_free(unit);
+  if (!cv) return fc_fail(err, FC_ENOMEM, path, "\"%s\": cannot convert to %s", text,
+                          dims[dim].si);
+  double r = cv_convert_double(cv, v);
+  cv_free(cv);
+  if (!isfinite(r)) return fc_fail(err, FC_EPARAM, path, "\"%s\" is out of range in %s", text,
+                                   dims[dim].si);
+  *si = r;
+  return FC_OK;
+}
+
+int fc_units_json(const fc_units *u, const cJSON *item, fc_dim dim, double *si,
+                  const char *path, fc_error *err)
+{
+  if (cJSON_IsNumber(item)) {
+    if (!isfinite(item->valuedouble))
+      return fc_fail(err, FC_EPARAM, path, "number out of range (not finite)");
+    *si = item->valuedouble;
+    return FC_OK;
+  }
+  if (cJSON_IsString(item) && item->valuestring)
+    return fc_units_parse(u, item->valuestring, dim, si, path, err);
+  return fc_fail(err, FC_EJSON, path, "expected %s %s: a number in SI (%s) or a string such as "
+                 "\"%s\"", article(dims[dim].name), dims[dim].name, dims[dim].si,
+                 dims[dim].example);
+}
+
+int fc_units_out_factor(const fc_units *u, const char *unit, fc_dim dim, double *factor,
+                        const char *what, fc_error *err)
+{
+  char buf[UNIT_TEXT_MAX + 1];
+  if (strlen(unit) > UNIT_TEXT_MAX)
+    return fc_fail(err, FC_EPARAM, NULL, "%s: unit longer than %d characters", what,
+                   UNIT_TEXT_MAX);
+  memcpy(buf, unit, strlen(unit) + 1);
+  char *s = trim(buf);
+  ut_unit *un = *s ? ut_parse(u->sys, s, UT_UTF8) : NULL;
+  if (!un)
+    return fc_fail(err, FC_EPARAM, NULL, "%s: unknown unit \"%s\"; expected a unit of %s such "
+                   "as %s", what, unit, dims[dim].name, dims[dim].si);
+  int ok = ut_are_convertible(un, u->si[dim]);
+  int got = ok ? (int)dim : classify(u, un);
+  cv_converter *cv = ok ? ut_get_converter(u->si[dim], un) : NULL;
+  ut_free(un);
+  if (!ok) {
+    if (got >= 0)
+      return fc_fail(err, FC_EPARAM, NULL, "%s: \"%s\" is a unit of %s, expected one of %s (%s)",
+                     what, unit, dims[got].name, dims[dim].name, dims[dim].si);
+    return fc_fail(err, FC_EPARAM, NULL, "%s: \"%s\" is not a unit of %s (%s)", what, unit,
+                   dims[dim].name, dims[dim].si);
+  }
+  if (!cv) return fc_fail(err, FC_ENOMEM, NULL, "%s: cannot convert to \"%s\"", what, unit);
+  double f = cv_convert_double(cv, 1.0), z = cv_convert_double(cv, 0.0);
+  cv_free(cv);
+  /* An offset unit (degC) cannot be applied as one factor. */
+  if (z != 0.0 || !isfinite(f) || f == 0.0)
+    return fc_fail(err, FC_EPARAM, NULL, "%s: \"%s\" has an offset from %s; use a unit that is "
+                   "a pure multiple (e.g. K)", what, unit, dims[dim].si);
+  *factor = f;
+  return FC_OK;
+}
