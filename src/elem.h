@@ -58,6 +58,8 @@ typedef struct fc_elem {
   int    iRoot;              /* offset of own roots in the global root vector (engine) */
   int    mode;               /* discrete state (valve: 0 sealed, 1 fwd, -1 rev, 2 blown) */
   int    culture;            /* 1 if flagged as a culture region (report wall shear) */
+  double hold_until;         /* set by the engine's chatter regularisation: until then a valve
+                                stays open (it may still blow out); 0 = no hold */
   void  *param;              /* type's parameter struct, type->szParam bytes, zeroed */
 } fc_elem;
 
@@ -75,6 +77,8 @@ typedef struct fci_info {
   double inertance;          /* [Pa s^2/m^3], 0 if none */
   double shear_per_flow;     /* wall shear stress per unit flow [Pa/(m^3/s)], 0 if unknown */
   double period;             /* period of a periodic source [s], 0 if none */
+  double blowout_forward;    /* valves: |dp| at which it is lost for good, from->to [Pa]; 0 none */
+  double blowout_reverse;    /* the same for to->from [Pa] */
   char   text[160];          /* one-line human description, SI */
 } fci_info;
 
@@ -120,7 +124,8 @@ struct fc_elem_type {
   void (*xRoot)(const fc_elem *e, double t, const double p[2], const double *x, double *g);
 
   /* Optional: at a root (found[k] = +1 rising, -1 falling, 0 not this one), change e->mode.
-   * Return 1 if the mode changed (the integrator is re-initialised), 0 if not. */
+   * Return 1 if the mode changed (the integrator is re-initialised), 0 if not. Also called with
+   * every found[k] == 0 when a hold (hold_until) ends: then re-check the mode against p. */
   int (*xEvent)(fc_elem *e, double t, const int *found, const double p[2], const double *x);
 
   /* Optional: fill the static description (all fields zeroed by the caller). */

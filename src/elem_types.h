@@ -13,6 +13,8 @@ extern const fc_elem_type *const fci_type_resistor;         /* elements/resistor
 extern const fc_elem_type *const fci_type_chamber;          /* elements/chamber.c */
 extern const fc_elem_type *const fci_type_flow_source;      /* elements/flow_source.c */
 extern const fc_elem_type *const fci_type_pressure_source;  /* elements/pressure_source.c */
+extern const fc_elem_type *const fci_type_check_valve;      /* elements/check_valve.c */
+extern const fc_elem_type *const fci_type_ferrofluid_valve; /* elements/ferrofluid_valve.c */
 
 /* elements/_template.c: the pattern to copy for a new type; deliberately not registered. */
 extern const fc_elem_type *const fci_type_template;

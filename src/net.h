@@ -18,7 +18,19 @@ typedef struct fci_sim_opts {
   double abs_tol_v;        /* absolute tolerance for volume quadratures [m^3] */
   double max_step;         /* 0 = no limit [s] */
   int    initial;          /* FC_INIT_REST or FC_INIT_STEADY */
+  double until_periodic;   /* stop when cycle net volumes change by less than this (relative);
+                              0 = run the full duration */
+  int    chatter_max;      /* switches of one element within chatter_window that count as chatter */
+  double chatter_window;   /* [s] */
+  int    chatter_continue; /* 1: hold the valve open for one window and go on; 0: stop (exit 3) */
 } fci_sim_opts;
+
+typedef struct fci_report_opts {
+  int    *track;           /* element indices given in report.elements (nTrack) */
+  int     nTrack;
+  double  shear_lo, shear_hi;   /* report.shear_range [Pa]; 0, INFINITY if not given */
+  double  pressure_limit;       /* report.pressure_limit [Pa]; INFINITY if not given */
+} fci_report_opts;
 
 struct fc_net {
   char        *title;          /* "" if none */
@@ -29,6 +41,7 @@ struct fc_net {
   int          nElem;
   fc_elem     *elem;           /* owned, each with owned id/path/param */
   fci_sim_opts sim;
+  fci_report_opts report;
   char         pressure_unit[32]; /* report units */
   char         flow_unit[32];
   const fc_units *units;       /* borrowed */

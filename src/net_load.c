@@ -97,6 +97,7 @@ void fc_net_free(fc_net *net)
     fc_free(e->path);
   }
   fc_free(net->elem);
+  fc_free(net->report.track);
   for (int i = 0; i < net->nNode; i++) fc_free(net->nodeName[i]);
   fc_free(net->nodeName);
   fc_free(net->title);

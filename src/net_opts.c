@@ -9,6 +9,7 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "ferrocirc/alloc.h"
 #include "ferrocirc/fluid.h"
 #include "net.h"
 
@@ -18,8 +19,11 @@ static const char *const fluid_keys[] = {"viscosity", "density", "ambient_pressu
                                          "temperature", "name", NULL};
 static const char *const sim_keys[] = {"duration", "cycles", "cycle_period", "sample_interval",
                                        "rel_tol", "abs_tol", "abs_tol_volume", "abs_tol_flow",
-                                       "max_step", "initial", NULL};
-static const char *const report_keys[] = {"pressure_unit", "flow_unit", NULL};
+                                       "max_step", "initial", "until_periodic", "max_cycles",
+                                       "chatter", NULL};
+static const char *const chatter_keys[] = {"max_switches", "window", "action", NULL};
+static const char *const report_keys[] = {"pressure_unit", "flow_unit", "elements",
+                                          "shear_range", "pressure_limit", NULL};
 
 int fci_net_parse_fluid(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc_error *err)
 {
@@ -31,9 +35,9 @@ int fci_net_parse_fluid(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, f
   /* Water properties at the given temperature (default 37 °C) are the defaults. */
   if ((rc = fci_get_quantity(j, "temperature", FC_DIM_TEMPERATURE, 0, 310.15, FCI_POS, &T, P, ctx, err)))
     return rc;
-  if (T < 273.16 || T > 373.15)
-    return fc_fail(err, FC_EPARAM, "$.fluid.temperature",
-                   "%.2f K is outside liquid water's 0.01-100 °C range used for the defaults", T);
+  if (T < FC_WATER_TMIN || T > FC_WATER_TMAX)
+    return fc_fail(err, FC_EPARAM, "$.fluid.temperature", "%.2f K is outside %.2f-%.2f K, the "
+                   "range of the water formulas used for the defaults", T, FC_WATER_TMIN, FC_WATER_TMAX);
   double rho0 = fc_water_density(T), mu0 = fc_water_viscosity(T, rho0);
   fci_fluid *f = &net->fluid;
   if ((rc = fci_get_quantity(j, "density", FC_DIM_DENSITY, 0, rho0, FCI_POS, &f->density, P, ctx, err)))
@@ -80,12 +84,27 @@ static int parse_times(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc
     return fc_fail(err, FC_EPARAM, "$.simulation", "periodic sources have different periods "
                    "(element \"%s\" differs); set simulation.cycle_period", other);
   if (mixed && !has_p) s->cycle_period = 0;
-  if (has_c || (!has_d && s->cycle_period > 0)) {
-    if ((rc = fci_get_quantity(j, "cycles", FC_DIM_NONE, 0, 10, FCI_POS, &s->cycles, P, ctx, err)))
+  int has_u = j && cJSON_GetObjectItemCaseSensitive(j, "until_periodic");
+  if (has_u && has_d)
+    return fc_fail(err, FC_EPARAM, "$.simulation.until_periodic", "give either duration or "
+                   "until_periodic (with max_cycles), not both");
+  if (has_u && has_c)
+    return fc_fail(err, FC_EPARAM, "$.simulation.until_periodic", "give either cycles or "
+                   "until_periodic (with max_cycles), not both");
+  if ((rc = fci_get_quantity(j, "until_periodic", FC_DIM_NONE, 0, 0, FCI_NONNEG,
+                             &s->until_periodic, P, ctx, err)))
+    return rc;
+  if (has_u || has_c || (!has_d && s->cycle_period > 0)) {
+    const char *key = has_u ? "max_cycles" : "cycles";
+    if ((rc = fci_get_quantity(j, key, FC_DIM_NONE, 0, has_u ? 500 : 10, FCI_POS, &s->cycles, P,
+                               ctx, err)))
       return rc;
     if (s->cycle_period <= 0)
       return fc_fail(err, FC_EPARAM, has_c ? "$.simulation.cycles" : "$.simulation",
                      "cycles need a periodic source or simulation.cycle_period; give duration");
+    if (s->cycles != floor(s->cycles) || s->cycles > 1e6)
+      return fc_fail(err, FC_EPARAM, has_u ? "$.simulation.max_cycles" : "$.simulation.cycles",
+                     "expected a whole number of cycles up to 1e6, got %g", s->cycles);
     s->duration = s->cycles * s->cycle_period;
   } else if ((rc = fci_get_quantity(j, "duration", FC_DIM_TIME, 1, 0, FCI_POS, &s->duration, P,
                                     ctx, err))) {
@@ -99,6 +118,34 @@ static int parse_times(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc
     return fc_fail(err, FC_EPARAM, "$.simulation.sample_interval", "%.3g s gives %.3g samples; "
                    "the limit is %.0f rows", s->sample_interval, s->duration / s->sample_interval,
                    FC_MAX_SAMPLES);
+  return FC_OK;
+}
+
+/* Chatter: a valve whose pressure hovers at a threshold switches on every small ripple. More
+ * than max_switches (default 100) switches within window (default 1 % of the cycle, or 10 ms)
+ * either stop the run (exit status 3) or, with "action": "continue", hold the valve open for
+ * one window: a documented regularisation that averages the buzzing (docs/network-format.md). */
+static int parse_chatter(fci_sim_opts *s, const cJSON *c, const fci_parse_ctx *ctx, fc_error *err)
+{
+  const char *P = "$.simulation.chatter";
+  double m, w0 = s->cycle_period > 0 ? 0.01 * s->cycle_period : 0.01;
+  int rc;
+  if (c && !cJSON_IsObject(c)) return fc_fail(err, FC_EJSON, P, "expected an object");
+  if (c && (rc = fci_check_keys(c, chatter_keys, NULL, P, err))) return rc;
+  if ((rc = fci_get_quantity(c, "max_switches", FC_DIM_NONE, 0, 100, FCI_POS, &m, P, ctx, err)) ||
+      (rc = fci_get_quantity(c, "window", FC_DIM_TIME, 0, w0, FCI_POS, &s->chatter_window, P, ctx, err)))
+    return rc;
+  if (m < 2 || m > 1e7 || m != floor(m))
+    return fc_fail(err, FC_EPARAM, "$.simulation.chatter.max_switches", "expected a whole number "
+                   ">= 2, got %g", m);
+  s->chatter_max = (int)m;
+  const cJSON *a = c ? cJSON_GetObjectItemCaseSensitive(c, "action") : NULL;
+  s->chatter_continue = 0;
+  if (a) {
+    if (cJSON_IsString(a) && !strcmp(a->valuestring, "continue")) s->chatter_continue = 1;
+    else if (!cJSON_IsString(a) || strcmp(a->valuestring, "stop"))
+      return fc_fail(err, FC_EPARAM, "$.simulation.chatter.action", "expected \"stop\" or \"continue\"");
+  }
   return FC_OK;
 }
 
@@ -120,6 +167,8 @@ int fci_net_parse_sim(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc_
     return rc;
   if (s->rel_tol < 1e-14 || s->rel_tol > 0.1)
     return fc_fail(err, FC_EPARAM, "$.simulation.rel_tol", "%g is outside 1e-14..0.1", s->rel_tol);
+  if ((rc = parse_chatter(s, j ? cJSON_GetObjectItemCaseSensitive(j, "chatter") : NULL, ctx, err)))
+    return rc;
   const cJSON *ini = j ? cJSON_GetObjectItemCaseSensitive(j, "initial") : NULL;
   s->initial = FC_INIT_REST;
   if (ini) {
@@ -146,11 +195,64 @@ static int report_unit(const cJSON *j, const char *key, fc_dim dim, const char *
   return FC_OK;
 }
 
+/* report.elements: ids of elements whose cycle-by-cycle table is printed (valves always are). */
+static int parse_track(fc_net *net, const cJSON *arr, fc_error *err)
+{
+  fci_report_opts *r = &net->report;
+  if (!arr) return FC_OK;
+  if (!cJSON_IsArray(arr)) return fc_fail(err, FC_EJSON, "$.report.elements", "expected an array of element ids");
+  int n = cJSON_GetArraySize(arr), k = 0;
+  if (!(r->track = fc_calloc((size_t)(n ? n : 1), sizeof *r->track)))
+    return fc_fail(err, FC_ENOMEM, "$.report.elements", "out of memory");
+  for (const cJSON *v = arr->child; v; v = v->next, k++) {
+    char p[64];
+    snprintf(p, sizeof p, "$.report.elements[%d]", k);
+    if (!cJSON_IsString(v)) return fc_fail(err, FC_EJSON, p, "expected an element id (string)");
+    int i = fc_net_elem_find(net, v->valuestring);
+    if (i < 0) return fc_fail(err, FC_EPARAM, p, "no element has the id \"%s\"", v->valuestring);
+    if (net->elem[i].nTerm != 2)
+      return fc_fail(err, FC_EPARAM, p, "\"%s\" has one terminal and no flow to report", v->valuestring);
+    r->track[r->nTrack++] = i;
+  }
+  return FC_OK;
+}
+
+static int parse_limits(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc_error *err)
+{
+  fci_report_opts *r = &net->report;
+  const char *P = "$.report";
+  int rc;
+  r->shear_lo = 0;
+  r->shear_hi = INFINITY;
+  if ((rc = fci_get_quantity(j, "pressure_limit", FC_DIM_PRESSURE, 0, INFINITY, FCI_POS,
+                             &r->pressure_limit, P, ctx, err)))
+    return rc;
+  const cJSON *sr = j ? cJSON_GetObjectItemCaseSensitive(j, "shear_range") : NULL;
+  if (!sr) return FC_OK;
+  if (!cJSON_IsArray(sr) || cJSON_GetArraySize(sr) != 2)
+    return fc_fail(err, FC_EJSON, "$.report.shear_range", "expected [low, high] wall shear stresses");
+  double v[2];
+  for (int k = 0; k < 2; k++) {
+    char p[64];
+    snprintf(p, sizeof p, "$.report.shear_range[%d]", k);
+    if ((rc = fc_units_json(ctx->units, cJSON_GetArrayItem(sr, k), FC_DIM_PRESSURE, &v[k], p, err)))
+      return rc;
+  }
+  if (!(v[0] >= 0 && v[1] > v[0]))
+    return fc_fail(err, FC_EPARAM, "$.report.shear_range", "expected 0 <= low < high, got %g, %g Pa", v[0], v[1]);
+  r->shear_lo = v[0];
+  r->shear_hi = v[1];
+  return FC_OK;
+}
+
 int fci_net_parse_report(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc_error *err)
 {
   int rc;
   if (j && !cJSON_IsObject(j)) return fc_fail(err, FC_EJSON, "$.report", "expected an object");
   if (j && (rc = fci_check_keys(j, report_keys, NULL, "$.report", err))) return rc;
+  if ((rc = parse_track(net, j ? cJSON_GetObjectItemCaseSensitive(j, "elements") : NULL, err)) ||
+      (rc = parse_limits(net, j, ctx, err)))
+    return rc;
   if ((rc = report_unit(j, "pressure_unit", FC_DIM_PRESSURE, "mbar", net->pressure_unit,
                         sizeof net->pressure_unit, ctx, err)))
     return rc;

@@ -13,6 +13,7 @@ static const fc_elem_type *const *all_types(void)
     const fc_elem_type *const src[] = {
       fci_type_reservoir, fci_type_channel,   fci_type_resistor,
       fci_type_chamber,   fci_type_flow_source, fci_type_pressure_source,
+      fci_type_check_valve, fci_type_ferrofluid_valve,
     };
     for (size_t i = 0; i < sizeof src / sizeof src[0]; i++) list[i] = src[i];
   }

@@ -168,7 +168,7 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
   const double tend = R->net->sim.duration;
   double t = 0;
   int rc = fci_run_begin(R, NV_DATA_S(c->yq), err);
-  while (!rc && t < tend * (1 - 1e-15)) {
+  while (!rc && !R->done && t < tend * (1 - 1e-15)) {
     if (stop_requested) { rc = fc_fail(err, FC_EINTR, NULL, "interrupted at t = %.9g s", t); break; }
     double tstop = fci_run_next_stop(R, t);
     if (CVodeSetStopTime(c->mem, tstop)) { rc = fc_fail(err, FC_ESOLVE, NULL, "stop time"); break; }
@@ -195,6 +195,11 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
       CVodeGetRootInfo(c->mem, found);
       rc = fci_run_events(R, t, NV_DATA_S(c->y), found, &changed, err);
       if (rc) break;
+    }
+    if (flag == CV_TSTOP_RETURN) {
+      int released = 0;
+      if ((rc = fci_run_release(R, t, NV_DATA_S(c->y), &released, err))) break;
+      changed |= released;
     }
     if (changed || flag == CV_TSTOP_RETURN) {
       if (restart(c, R, t)) { rc = fc_fail(err, FC_ESOLVE, NULL, "restart failed: %s", R->cv_msg); break; }

@@ -41,7 +41,8 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
   fci_sys *s = R->sys;
   int E = net->nElem;
   if (!NEW(R->qoff, E) || !NEW(R->qbuf, E) || !NEW(R->modes, E) || !NEW(R->corner_el, E) ||
-      !NEW(R->rootsfound, s->nroot) || !NEW(R->x0, s->nx) || !NEW(R->v0, s->ns) || alloc_result(R))
+      !NEW(R->rootsfound, s->nroot) || !NEW(R->x0, s->nx) || !NEW(R->v0, s->ns) || alloc_result(R) ||
+      fci_cycles_init(R))
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
   for (int i = 0; i < E; i++) {
     const fc_elem *e = &net->elem[i];
@@ -65,6 +66,7 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
 void fci_run_free(fci_run *R)
 {
   fci_sys_free(R->sys);
+  fci_cycles_free(R);
   fc_sim_result_free(R->res);
   fc_free(R->qoff); fc_free(R->qbuf); fc_free(R->modes); fc_free(R->corner_el);
   fc_free(R->rootsfound); fc_free(R->x0); fc_free(R->v0); fc_free(R->vq_cycle);
@@ -76,7 +78,10 @@ void fc_sim_result_free(fc_sim_result *r)
   if (!r) return;
   fc_free(r->p_min); fc_free(r->p_max); fc_free(r->p_mean); fc_free(r->q_min); fc_free(r->q_max);
   fc_free(r->q_mean); fc_free(r->v_net); fc_free(r->v_back); fc_free(r->v_stored);
-  fc_free(r->v_inflow); fc_free(r->cyc_v_net); fc_free(r->cyc_v_back);
+  fc_free(r->v_inflow); fc_free(r->cyc_v_net); fc_free(r->cyc_v_back); fc_free(r->cyc_open);
+  fc_free(r->cyc_dp_max); fc_free(r->cyc_dp_min); fc_free(r->cyc_q_max); fc_free(r->cyc_q_min);
+  fc_free(r->cyc_p_min); fc_free(r->cyc_p_max); fc_free(r->cyc_p_mean); fc_free(r->blown_elem);
+  fc_free(r->blown_time);
   fc_free(r);
 }
 
@@ -139,6 +144,7 @@ int fci_run_begin(fci_run *R, const double *yq, fc_error *err)
   memcpy(R->vq_cycle, yq, (size_t)R->nq * sizeof *yq);
   extremes(R);
   R->next_sample = 1;
+  R->t_prev = 0;
   return emit(R, 0.0, err);
 }
 
@@ -146,6 +152,8 @@ double fci_run_next_stop(const fci_run *R, double t)
 {
   double ts = R->net->sim.duration;
   if (R->next_cycle < ts) ts = R->next_cycle;
+  double tr = fci_cycles_next_release(R, t);
+  if (tr < ts) ts = tr;
   for (int k = 0; k < R->ncorner; k++) {
     const fc_elem *e = &R->net->elem[R->corner_el[k]];
     double c = e->type->xCorner(e, t * (1 + 1e-14) + 1e-300);
@@ -184,22 +192,7 @@ int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, fc
   int rc = eval_or_fail(R, t, x, err);
   if (rc) return rc;
   extremes(R);
-  fc_sim_result *r = R->res;
-  double T = R->net->sim.cycle_period;
-  if (T > 0 && t >= R->next_cycle * (1 - 1e-12)) {
-    int c = r->nCycle, E = R->net->nElem;
-    int cap = (int)floor(R->net->sim.duration / T + 1e-9);
-    if (c < cap) {
-      for (int i = 0; i < E; i++) {
-        int o = R->qoff[i];
-        r->cyc_v_net[(size_t)c * E + i] = o >= 0 ? yq[o] - R->vq_cycle[o] : NAN;
-        r->cyc_v_back[(size_t)c * E + i] = o >= 0 ? yq[o + 1] - R->vq_cycle[o + 1] : NAN;
-      }
-      r->nCycle++;
-    }
-    memcpy(R->vq_cycle, yq, (size_t)R->nq * sizeof *yq);
-    R->next_cycle = (double)(c + 2) * T;
-  }
+  fci_cycles_step(R, t, yq);
   return FC_OK;
 }
 
@@ -222,6 +215,8 @@ int fci_run_events(fci_run *R, double t, const double *x, const int *found, int 
     *changed = 1;
     s->gdirty = 1;
     R->res->stats.events++;
+    if (e->mode == 2 && !R->res->blown_elem[i]) { R->res->blown_elem[i] = 1; R->res->blown_time[i] = t; }
+    if ((rc = fci_cycles_chatter(R, i, t, err))) return rc;
     if (R->sink && R->sink->xEvent && R->sink->xEvent(R->sink->ctx, t, i, old, e->mode, pp[0] - pp[1]))
       return fc_fail(err, FC_EIO, NULL, "writing the event at t = %.9g s failed", t);
   }
@@ -261,4 +256,27 @@ const char *fci_run_state_owner(const fci_run *R, int k)
     if (e->nState && k >= e->iState && k < e->iState + e->nState) return e->id;
   }
   return "(unknown)";
+}
+
+int fci_run_release(fci_run *R, double t, const double *x, int *changed, fc_error *err)
+{
+  static const int none[FCI_MAX_ROOT] = {0};
+  fci_sys *s = R->sys;
+  *changed = 0;
+  int rc = eval_or_fail(R, t, x, err);
+  for (int k = 0; !rc && k < R->nmode; k++) {
+    fc_elem *e = &R->net->elem[R->mode_el[k]];
+    if (!(e->hold_until > 0) || e->hold_until > t * (1 + 1e-12)) continue;
+    e->hold_until = 0;
+    double pp[2] = {s->p[e->node[0]], e->nTerm == 2 ? s->p[e->node[1]] : 0};
+    int old = e->mode;
+    if (!e->type->xEvent || !e->type->xEvent(e, t, none, pp, e->nState ? x + e->iState : NULL)) continue;
+    *changed = 1;
+    s->gdirty = 1;
+    R->res->stats.events++;
+    if (R->sink && R->sink->xEvent &&
+        R->sink->xEvent(R->sink->ctx, t, R->mode_el[k], old, e->mode, pp[0] - pp[1]))
+      rc = fc_fail(err, FC_EIO, NULL, "writing the event at t = %.9g s failed", t);
+  }
+  return rc;
 }

@@ -27,7 +27,29 @@ typedef struct fci_run {
   int final_done;            /* the extra sample at the duration has been written */
   double next_cycle;         /* time of the next cycle boundary, +inf if none */
   char cv_msg[512];          /* last message from CVODE's error handler */
+  /* current cycle accumulators (src/sim_cycles.c) */
+  double *c_open, *c_dpmax, *c_dpmin, *c_qmax, *c_qmin; /* per element */
+  double *c_pmin, *c_pmax;   /* per node */
+  double t_prev;             /* end of the previous internal step */
+  int *mode_el;              /* elements with modes (nRoot > 0) */
+  int nmode;
+  double *win_start;         /* chatter window start per element */
+  int *win_count;            /* switches in the window */
+  int done;                  /* until_periodic reached: stop */
 } fci_run;
+
+/* Cycle accounting (src/sim_cycles.c). */
+int fci_cycles_init(fci_run *R);
+void fci_cycles_free(fci_run *R);
+/* After each step (pressures and flows evaluated at t): accumulate; at a boundary close the
+ * cycle with the quadratures yq. */
+void fci_cycles_step(fci_run *R, double t, const double *yq);
+/* Chatter check for element i switching at t: FC_ECHATTER (stop) or a hold (continue). */
+int fci_cycles_chatter(fci_run *R, int i, double t, fc_error *err);
+/* Earliest hold release after t among held elements, +inf if none. */
+double fci_cycles_next_release(const fci_run *R, double t);
+/* Holds ending at t: re-check those elements' modes; *changed = 1 if one switched. */
+int fci_run_release(fci_run *R, double t, const double *x, int *changed, fc_error *err);
 
 int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err);
 void fci_run_free(fci_run *R);

@@ -5,6 +5,7 @@
 
 #include "ferrocirc/summary.h"
 #include "net.h"
+#include "summary_int.h"
 
 const char *const fc_cautions_text =
   "Cautions: ferrocirc is a design aid built on idealised lumped models; confirm flows, cracking\n"
@@ -17,6 +18,7 @@ const char *const fc_cautions_text =
 void fc_summary_print(FILE *f, const fc_net *net, const fc_sim_result *r, const fc_report_units *u)
 {
   const double vf = 1e9; /* m^3 -> uL */
+  fci_summary_print_alerts(f, net, r, u);
   fprintf(f, "%s%s%s simulated %.6g s", net->title[0] ? "\"" : "", net->title,
           net->title[0] ? "\"" : "network", r->t_end);
   if (r->cycle_period > 0) fprintf(f, " (%d cycles of %.6g s)", r->nCycle, r->cycle_period);
@@ -32,6 +34,7 @@ void fc_summary_print(FILE *f, const fc_net *net, const fc_sim_result *r, const 
   for (int n = 0; n < net->nNode; n++)
     fprintf(f, "  %-18s %10.5g %11.5g %10.5g\n", net->nodeName[n], r->p_min[n] * u->pf,
             r->p_mean[n] * u->pf, r->p_max[n] * u->pf);
+  fci_summary_print_cycles(f, net, r, u);
   const fc_sim_stats *s = &r->stats;
   fprintf(f, "\nSolver: %ld steps, %ld right-hand sides, %ld preconditioner set-ups, %ld linear "
           "iterations, %ld events, %.3g s wall\n\n", s->steps, s->rhs_evals, s->prec_setups,
@@ -90,6 +93,7 @@ char *fc_summary_json(const fc_net *net, const fc_sim_result *r)
     cJSON_AddNumberToObject(st, "restarts", (double)s->restarts);
     cJSON_AddNumberToObject(st, "wall_seconds", s->wall_seconds);
   }
+  fci_summary_json_cycles(root, net, r);
   char *txt = cJSON_Print(root);
   cJSON_Delete(root);
   return txt;

@@ -37,7 +37,20 @@ typedef struct fc_sim_result {
   double *v_inflow;                 /* per node: integral of the net inflow [m^3] */
   int nCycle;                       /* complete cycles recorded */
   double cycle_period;              /* [s], 0 if none */
-  double *cyc_v_net, *cyc_v_back;   /* nCycle x nElem, per cycle [m^3] */
+  /* Per complete cycle c and element i, at [c * nElem + i] (NaN for one-terminal elements): */
+  double *cyc_v_net, *cyc_v_back;   /* integral of q and of max(-q, 0) [m^3] */
+  double *cyc_open;                 /* time spent in a nonzero mode (valve open or blown) [s] */
+  double *cyc_dp_max, *cyc_dp_min;  /* extremes of p(from) - p(to) [Pa] */
+  double *cyc_q_max, *cyc_q_min;    /* extremes of q [m^3/s] */
+  /* Per complete cycle c and node n, at [c * nNode + n]: */
+  double *cyc_p_min, *cyc_p_max, *cyc_p_mean; /* [Pa] */
+  int periodic_cycle;               /* until_periodic: the cycle after which net volumes
+                                       changed by less than the tolerance; 0 = not reached */
+  int chatter_holds;                /* chatter regularisations applied ("continue") */
+  double chatter_time;              /* time of the first chatter report [s], NaN if none */
+  int chatter_elem;                 /* element of the first chatter report, -1 if none */
+  int *blown_elem;                  /* per element: 1 if it blew out during the run */
+  double *blown_time;               /* per element: when [s] (NaN if not) */
   fc_sim_stats stats;
 } fc_sim_result;
 

@@ -70,12 +70,20 @@ typedef struct fc_valve_pressures {
   double leak_y_forward, leak_z_forward; /* where the forward leak path crosses the section
                                             (y/(w/2) in [-1,1], z/h in [0,1]); NaN if expelled */
   double leak_y_reverse, leak_z_reverse; /* the same for the reverse leak */
+  int    sealed;          /* 0 if some path is open already at rest (the plug does not fill
+                             the section where the field is weak): crack is then 0 */
+  double end_fraction;    /* mean magnetic pressure at the channel ends / its maximum; when not
+                             small, the blowout values are bounded by the channel length */
 } fc_valve_pressures;
 
 /* Solve the statics of the design. FC_ESOLVE (with a message) if the field holds the plug at
  * no stable position inside the channel. A symmetric design gives equal forward and reverse
  * values. Pure: d is not modified. */
 int fc_valve_design_solve(const fc_valve_design *d, fc_valve_pressures *out, fc_error *err);
+
+/* Resistance of the open valve [Pa s/m^3]: its channel sections in series, exact rectangular
+ * series, for a carrier of the given viscosity [Pa s] (src/valve/valve_open.c). */
+double fc_valve_design_open_resistance(const fc_valve_design *d, double viscosity);
 
 /* ===================== Fields and profiles ===================== */
 /* Flux density of all magnets at r = (x, y, z) [m], outside the magnets [T]. */

@@ -123,7 +123,10 @@ const fci_section *fci_design_section(const fc_valve_design *d, double x);
 /* Width and height at x, and the wall slopes dw/dx, dh/dx. */
 void fci_design_shape(const fc_valve_design *d, double x, double *w, double *h, double *dw,
                       double *dh);
-/* Parse "magnets" (design_magnets.c) and the rest (design_parse.c). */
+/* Parse the design object's contents into d (design_parse.c), its "magnets" array
+ * (design_magnets.c). */
+int fci_design_parse_body(fc_valve_design *d, const struct cJSON *obj, const char *path,
+                          const fci_parse_ctx *ctx, fc_error *err);
 int fci_design_parse_magnets(fc_valve_design *d, const struct cJSON *arr, const char *path,
                              const fci_parse_ctx *ctx, fc_error *err);
 
@@ -154,6 +157,9 @@ typedef struct fci_dir_result {
   int    sealed;                 /* 0: a path is open already at rest */
 } fci_dir_result;
 
+/* Crack and reseat by the level-set model (plug_crack.c); fills crack, reseat, sealed, path,
+ * x_crack of r. */
+int fci_statics_crack(const fci_line *L, double volume, fci_dir_result *r, fc_error *err);
 /* Push towards +x of the line: crack, reseat and blowout. FC_ESOLVE if no rest position. */
 int fci_statics_push(const fci_line *L, double volume, fci_dir_result *r, fc_error *err);
 

@@ -1,0 +1,170 @@
+/* ferrocirc — cycle-by-cycle accounting of a run: volumes (from the quadratures), time open,
+ * pressure-difference and flow extremes per element, pressure extremes and means per node; the
+ * periodic-steady-state test; chatter detection. Extremes are taken at every internal step end
+ * (and mode switches end steps), so peaks between output samples are kept. */
+#include <math.h>
+#include <string.h>
+
+#include "ferrocirc/alloc.h"
+#include "sim_run.h"
+
+#define NEW(ptr, n) ((ptr) = fc_calloc((size_t)(n) > 0 ? (size_t)(n) : 1, sizeof *(ptr)))
+
+static void reset_cycle(fci_run *R)
+{
+  int E = R->net->nElem, N = R->net->nNode;
+  for (int i = 0; i < E; i++) {
+    R->c_open[i] = 0;
+    R->c_dpmax[i] = R->c_qmax[i] = -INFINITY;
+    R->c_dpmin[i] = R->c_qmin[i] = INFINITY;
+  }
+  for (int n = 0; n < N; n++) { R->c_pmin[n] = INFINITY; R->c_pmax[n] = -INFINITY; }
+}
+
+int fci_cycles_init(fci_run *R)
+{
+  int E = R->net->nElem, N = R->net->nNode;
+  fc_sim_result *r = R->res;
+  size_t nc = r->cycle_period > 0 ? (size_t)floor(R->net->sim.duration / r->cycle_period + 1e-9) : 0;
+  if (!NEW(R->c_open, E) || !NEW(R->c_dpmax, E) || !NEW(R->c_dpmin, E) || !NEW(R->c_qmax, E) ||
+      !NEW(R->c_qmin, E) || !NEW(R->c_pmin, N) || !NEW(R->c_pmax, N) || !NEW(R->mode_el, E) ||
+      !NEW(R->win_start, E) || !NEW(R->win_count, E) || !NEW(r->cyc_open, nc * E) ||
+      !NEW(r->cyc_dp_max, nc * E) || !NEW(r->cyc_dp_min, nc * E) || !NEW(r->cyc_q_max, nc * E) ||
+      !NEW(r->cyc_q_min, nc * E) || !NEW(r->cyc_p_min, nc * N) || !NEW(r->cyc_p_max, nc * N) ||
+      !NEW(r->cyc_p_mean, nc * N) || !NEW(r->blown_elem, E) || !NEW(r->blown_time, E))
+    return FC_ENOMEM;
+  for (int i = 0; i < E; i++) {
+    r->blown_time[i] = NAN;
+    if (R->net->elem[i].nRoot > 0) R->mode_el[R->nmode++] = i;
+  }
+  r->chatter_time = NAN;
+  r->chatter_elem = -1;
+  reset_cycle(R);
+  return FC_OK;
+}
+
+void fci_cycles_free(fci_run *R)
+{
+  fc_free(R->c_open); fc_free(R->c_dpmax); fc_free(R->c_dpmin); fc_free(R->c_qmax);
+  fc_free(R->c_qmin); fc_free(R->c_pmin); fc_free(R->c_pmax); fc_free(R->mode_el);
+  fc_free(R->win_start); fc_free(R->win_count);
+}
+
+static void accumulate(fci_run *R, double t)
+{
+  const fci_sys *s = R->sys;
+  const fc_net *net = R->net;
+  double dt = t - R->t_prev;
+  for (int k = 0; k < R->nmode; k++) {
+    int i = R->mode_el[k];
+    if (net->elem[i].mode != 0) R->c_open[i] += dt;
+  }
+  R->t_prev = t;
+  for (int i = 0; i < s->nE; i++) {
+    const fc_elem *e = &net->elem[i];
+    if (e->nTerm != 2) continue;
+    double dp = s->p[e->node[0]] - s->p[e->node[1]], q = s->q[i];
+    if (dp > R->c_dpmax[i]) R->c_dpmax[i] = dp;
+    if (dp < R->c_dpmin[i]) R->c_dpmin[i] = dp;
+    if (q > R->c_qmax[i]) R->c_qmax[i] = q;
+    if (q < R->c_qmin[i]) R->c_qmin[i] = q;
+  }
+  for (int n = 0; n < s->nN; n++) {
+    if (s->p[n] < R->c_pmin[n]) R->c_pmin[n] = s->p[n];
+    if (s->p[n] > R->c_pmax[n]) R->c_pmax[n] = s->p[n];
+  }
+}
+
+/* Largest change of any element's cycle net volume, relative to the largest such volume. */
+static double periodic_change(const fc_sim_result *r, int c)
+{
+  double dmax = 0, vmax = 0;
+  int E = r->nElem;
+  for (int i = 0; i < E; i++) {
+    double a = r->cyc_v_net[(size_t)c * E + i], b = r->cyc_v_net[(size_t)(c - 1) * E + i];
+    if (isnan(a)) continue;
+    if (fabs(a - b) > dmax) dmax = fabs(a - b);
+    if (fabs(a) > vmax) vmax = fabs(a);
+  }
+  return vmax > 0 ? dmax / vmax : dmax;
+}
+
+static void close_cycle(fci_run *R, const double *yq)
+{
+  fc_sim_result *r = R->res;
+  const fc_net *net = R->net;
+  int c = r->nCycle, E = net->nElem, N = net->nNode;
+  for (int i = 0; i < E; i++) {
+    size_t k = (size_t)c * E + i;
+    int o = R->qoff[i];
+    r->cyc_v_net[k] = o >= 0 ? yq[o] - R->vq_cycle[o] : NAN;
+    r->cyc_v_back[k] = o >= 0 ? yq[o + 1] - R->vq_cycle[o + 1] : NAN;
+    r->cyc_open[k] = R->c_open[i];
+    r->cyc_dp_max[k] = o >= 0 ? R->c_dpmax[i] : NAN;
+    r->cyc_dp_min[k] = o >= 0 ? R->c_dpmin[i] : NAN;
+    r->cyc_q_max[k] = o >= 0 ? R->c_qmax[i] : NAN;
+    r->cyc_q_min[k] = o >= 0 ? R->c_qmin[i] : NAN;
+  }
+  for (int n = 0; n < N; n++) {
+    size_t k = (size_t)c * N + n;
+    r->cyc_p_min[k] = R->c_pmin[n];
+    r->cyc_p_max[k] = R->c_pmax[n];
+    r->cyc_p_mean[k] = (yq[R->qp + n] - R->vq_cycle[R->qp + n]) / r->cycle_period;
+  }
+  r->nCycle++;
+  memcpy(R->vq_cycle, yq, (size_t)R->nq * sizeof *yq);
+  double tol = net->sim.until_periodic;
+  if (tol > 0 && c >= 1 && !r->periodic_cycle && periodic_change(r, c) < tol) {
+    r->periodic_cycle = c + 1;
+    R->done = 1;
+  }
+}
+
+void fci_cycles_step(fci_run *R, double t, const double *yq)
+{
+  double T = R->net->sim.cycle_period;
+  accumulate(R, t);
+  if (!(T > 0) || t < R->next_cycle * (1 - 1e-12)) return;
+  int cap = (int)floor(R->net->sim.duration / T + 1e-9);
+  if (R->res->nCycle < cap) close_cycle(R, yq);
+  reset_cycle(R);
+  /* Keep the point at the boundary in the next cycle too, so its extremes include it. */
+  accumulate(R, t);
+  R->next_cycle = (double)(R->res->nCycle + 1) * T;
+}
+
+int fci_cycles_chatter(fci_run *R, int i, double t, fc_error *err)
+{
+  const fci_sim_opts *o = &R->net->sim;
+  fc_elem *e = &R->net->elem[i];
+  if (t - R->win_start[i] > o->chatter_window) {
+    R->win_start[i] = t;
+    R->win_count[i] = 0;
+  }
+  if (++R->win_count[i] <= o->chatter_max) return FC_OK;
+  if (isnan(R->res->chatter_time)) {
+    R->res->chatter_time = t;
+    R->res->chatter_elem = i;
+  }
+  if (!o->chatter_continue)
+    return fc_fail(err, FC_ECHATTER, e->path, "\"%s\" chattered: %d switches within %.3g s at "
+                   "t = %.9g s (its pressure difference hovers at a threshold). Give the valve "
+                   "more hysteresis (reseat further below crack), add compliance upstream, or set "
+                   "simulation.chatter.action to \"continue\" to hold it open for one window",
+                   e->id, R->win_count[i], o->chatter_window, t);
+  e->hold_until = t + o->chatter_window;
+  R->res->chatter_holds++;
+  R->win_start[i] = t;
+  R->win_count[i] = 0;
+  return FC_OK;
+}
+
+double fci_cycles_next_release(const fci_run *R, double t)
+{
+  double tr = INFINITY;
+  for (int k = 0; k < R->nmode; k++) {
+    double h = R->net->elem[R->mode_el[k]].hold_until;
+    if (h > t && h < tr) tr = h;
+  }
+  return tr;
+}

@@ -1,0 +1,178 @@
+/* ferrocirc — cycle analysis in the summary: valves and tracked elements cycle by cycle,
+ * pulsatility, wall shear of culture regions, blowouts and pressure limits.
+ *
+ * Definitions (per cycle of period T, q > 0 from -> to):
+ *   V_fwd = int max(q, 0) dt = V_net + V_back, V_back = int max(-q, 0) dt,
+ *   regurgitant fraction RF = V_back / V_fwd;
+ *   pulsatility index PI = (max - min) / mean (Gosling & King 1974, applied to pressure and flow);
+ *   wall shear tau = k q with k from the channel's cross-section (parallel-plate / Poiseuille
+ *   formulas, elements/channel.c); TAWSS = (1/T) int |tau| dt = k (V_net + 2 V_back) / T;
+ *   OSI = (1/2)(1 - |int tau dt| / int |tau| dt) (Ku et al. 1985, Arteriosclerosis 5:293);
+ *   blowout margin = peak |dp| / blowout pressure (>= 1: blown). */
+#include <cjson/cJSON.h>
+#include <math.h>
+#include <stdio.h>
+
+#include "net.h"
+#include "summary_int.h"
+
+int fci_summary_tracked(const fc_net *net, int i)
+{
+  if (net->elem[i].nRoot > 0 && net->elem[i].nTerm == 2) return 1;
+  for (int k = 0; k < net->report.nTrack; k++)
+    if (net->report.track[k] == i) return 1;
+  return 0;
+}
+
+void fci_summary_cycle(const fc_net *net, const fc_sim_result *r, int c, int i, fci_cycle_row *o)
+{
+  size_t k = (size_t)c * r->nElem + i;
+  fci_info info = {0};
+  const fc_elem *e = &net->elem[i];
+  if (e->type->xInfo) e->type->xInfo(e, &net->fluid, &info);
+  o->v_net = r->cyc_v_net[k];
+  o->v_back = r->cyc_v_back[k];
+  o->v_fwd = o->v_net + o->v_back;
+  o->rf = o->v_fwd > 0 ? o->v_back / o->v_fwd : NAN;
+  o->open_frac = r->cyc_open[k] / r->cycle_period;
+  o->dp_fwd = r->cyc_dp_max[k];
+  o->dp_rev = -r->cyc_dp_min[k];
+  double mf = info.blowout_forward > 0 ? o->dp_fwd / info.blowout_forward : 0;
+  double mr = info.blowout_reverse > 0 ? o->dp_rev / info.blowout_reverse : 0;
+  o->margin = (info.blowout_forward > 0 || info.blowout_reverse > 0) ? fmax(mf, mr) : NAN;
+  double qmean = o->v_net / r->cycle_period;
+  o->pi_q = fabs(qmean) > 0 ? (r->cyc_q_max[k] - r->cyc_q_min[k]) / fabs(qmean) : NAN;
+  o->tawss = info.shear_per_flow * (o->v_net + 2 * o->v_back) / r->cycle_period;
+  o->tau_peak = info.shear_per_flow * fmax(fabs(r->cyc_q_max[k]), fabs(r->cyc_q_min[k]));
+  double absint = o->v_net + 2 * o->v_back;
+  o->osi = absint > 0 ? 0.5 * (1 - fabs(o->v_net) / absint) : NAN;
+}
+
+void fci_summary_print_alerts(FILE *f, const fc_net *net, const fc_sim_result *r, const fc_report_units *u)
+{
+  for (int i = 0; i < net->nElem; i++)
+    if (r->blown_elem && r->blown_elem[i])
+      fprintf(f, "!!! BLOWOUT: valve \"%s\" was blown out at t = %.6g s; it no longer seals "
+              "(flow passes both ways). Peak |dp| exceeded its blowout pressure.\n",
+              net->elem[i].id, r->blown_time[i]);
+  for (int n = 0; n < net->nNode; n++)
+    if (r->p_max[n] > net->report.pressure_limit)
+      fprintf(f, "!!! PRESSURE LIMIT: node \"%s\" peaks at %.5g %s, above the limit %.5g %s.\n",
+              net->nodeName[n], r->p_max[n] * u->pf, u->p_unit, net->report.pressure_limit * u->pf,
+              u->p_unit);
+  if (r->chatter_holds)
+    fprintf(f, "Note: valve \"%s\" chattered (first at t = %.6g s); %d hold(s) of one window "
+            "were applied (simulation.chatter.action = continue).\n",
+            net->elem[r->chatter_elem].id, r->chatter_time, r->chatter_holds);
+}
+
+void fci_summary_print_cycles(FILE *f, const fc_net *net, const fc_sim_result *r,
+                              const fc_report_units *u)
+{
+  const double vf = 1e9; /* m^3 -> uL */
+  if (r->nCycle == 0) return;
+  if (r->periodic_cycle)
+    fprintf(f, "Periodic steady state after %d cycles (net volumes changed by < %g).\n",
+            r->periodic_cycle, net->sim.until_periodic);
+  else if (net->sim.until_periodic > 0)
+    fprintf(f, "!!! Not periodic within %d cycles (tolerance %g).\n", r->nCycle, net->sim.until_periodic);
+  int last = r->nCycle - 1;
+  for (int i = 0; i < net->nElem; i++) {
+    if (!fci_summary_tracked(net, i)) continue;
+    fprintf(f, "\n%s \"%s\", per cycle: V_fwd, V_back, V_net [uL], RF, open, peak dp fwd/rev [%s], "
+            "blowout margin\n", net->elem[i].type->name, net->elem[i].id, u->p_unit);
+    int step = r->nCycle > 12 ? r->nCycle / 10 : 1;
+    for (int c = 0; c <= last; c++) {
+      if (c % step && c != last) continue;
+      fci_cycle_row o;
+      fci_summary_cycle(net, r, c, i, &o);
+      fprintf(f, "  %s%4d %10.5g %10.5g %10.5g %8.4f %6.3f %9.4g %9.4g %7.3f\n",
+              c == last ? "last" : "    ", c + 1, o.v_fwd * vf, o.v_back * vf, o.v_net * vf, o.rf,
+              o.open_frac, o.dp_fwd * u->pf, o.dp_rev * u->pf, o.margin);
+    }
+  }
+  fprintf(f, "\nLast complete cycle (%d): pulsatility index (max - min)/mean\n", last + 1);
+  for (int n = 0; n < net->nNode; n++) {
+    size_t k = (size_t)last * r->nNode + n;
+    double m = r->cyc_p_mean[k];
+    if (m != 0) fprintf(f, "  p:%-16s PI %8.4g  (min %.5g, mean %.5g, max %.5g %s)\n",
+                        net->nodeName[n], (r->cyc_p_max[k] - r->cyc_p_min[k]) / fabs(m),
+                        r->cyc_p_min[k] * u->pf, m * u->pf, r->cyc_p_max[k] * u->pf, u->p_unit);
+  }
+  for (int i = 0; i < net->nElem; i++) {
+    if (net->elem[i].nTerm != 2) continue;
+    fci_cycle_row o;
+    fci_summary_cycle(net, r, last, i, &o);
+    fprintf(f, "  q:%-16s PI %8.4g\n", net->elem[i].id, o.pi_q);
+    if (!net->elem[i].culture) continue;
+    fprintf(f, "    culture region: TAWSS %.4g Pa, peak %.4g Pa, OSI %.4f\n", o.tawss, o.tau_peak, o.osi);
+    if (o.tawss < net->report.shear_lo || o.tau_peak > net->report.shear_hi)
+      fprintf(f, "    !!! wall shear leaves the range %.4g..%.4g Pa set in report.shear_range\n",
+              net->report.shear_lo, net->report.shear_hi);
+  }
+}
+
+static void json_row(cJSON *o, const fci_cycle_row *w)
+{
+  cJSON_AddNumberToObject(o, "volume_forward_m3", w->v_fwd);
+  cJSON_AddNumberToObject(o, "volume_back_m3", w->v_back);
+  cJSON_AddNumberToObject(o, "volume_net_m3", w->v_net);
+  if (isfinite(w->rf)) cJSON_AddNumberToObject(o, "regurgitant_fraction", w->rf);
+  cJSON_AddNumberToObject(o, "open_fraction", w->open_frac);
+  cJSON_AddNumberToObject(o, "peak_dp_forward_Pa", w->dp_fwd);
+  cJSON_AddNumberToObject(o, "peak_dp_reverse_Pa", w->dp_rev);
+  if (isfinite(w->margin)) cJSON_AddNumberToObject(o, "blowout_margin", w->margin);
+  if (isfinite(w->pi_q)) cJSON_AddNumberToObject(o, "pulsatility_flow", w->pi_q);
+}
+
+void fci_summary_json_cycles(cJSON *root, const fc_net *net, const fc_sim_result *r)
+{
+  cJSON *tr = cJSON_AddArrayToObject(root, "tracked");
+  cJSON_AddNumberToObject(root, "periodic_cycle", r->periodic_cycle);
+  cJSON_AddNumberToObject(root, "chatter_holds", r->chatter_holds);
+  for (int i = 0; tr && i < net->nElem; i++) {
+    if (!fci_summary_tracked(net, i)) continue;
+    cJSON *o = cJSON_CreateObject(), *cy;
+    cJSON_AddItemToArray(tr, o);
+    cJSON_AddStringToObject(o, "id", net->elem[i].id);
+    cJSON_AddBoolToObject(o, "blown", r->blown_elem[i]);
+    if (r->blown_elem[i]) cJSON_AddNumberToObject(o, "blown_at_s", r->blown_time[i]);
+    if (!(cy = cJSON_AddArrayToObject(o, "cycles"))) continue;
+    for (int c = 0; c < r->nCycle; c++) {
+      fci_cycle_row w;
+      cJSON *row = cJSON_CreateObject();
+      fci_summary_cycle(net, r, c, i, &w);
+      json_row(row, &w);
+      cJSON_AddItemToArray(cy, row);
+    }
+  }
+  if (r->nCycle == 0) return;
+  int last = r->nCycle - 1;
+  cJSON *pn = cJSON_AddArrayToObject(root, "last_cycle_nodes");
+  for (int n = 0; pn && n < net->nNode; n++) {
+    size_t k = (size_t)last * r->nNode + n;
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddItemToArray(pn, o);
+    cJSON_AddStringToObject(o, "name", net->nodeName[n]);
+    cJSON_AddNumberToObject(o, "p_min_Pa", r->cyc_p_min[k]);
+    cJSON_AddNumberToObject(o, "p_mean_Pa", r->cyc_p_mean[k]);
+    cJSON_AddNumberToObject(o, "p_max_Pa", r->cyc_p_max[k]);
+    if (r->cyc_p_mean[k] != 0)
+      cJSON_AddNumberToObject(o, "pulsatility", (r->cyc_p_max[k] - r->cyc_p_min[k]) / fabs(r->cyc_p_mean[k]));
+  }
+  cJSON *pe = cJSON_AddArrayToObject(root, "last_cycle_elements");
+  for (int i = 0; pe && i < net->nElem; i++) {
+    if (net->elem[i].nTerm != 2) continue;
+    fci_cycle_row w;
+    cJSON *o = cJSON_CreateObject();
+    fci_summary_cycle(net, r, last, i, &w);
+    cJSON_AddItemToArray(pe, o);
+    cJSON_AddStringToObject(o, "id", net->elem[i].id);
+    json_row(o, &w);
+    if (net->elem[i].culture) {
+      cJSON_AddNumberToObject(o, "tawss_Pa", w.tawss);
+      cJSON_AddNumberToObject(o, "wss_peak_Pa", w.tau_peak);
+      if (isfinite(w.osi)) cJSON_AddNumberToObject(o, "osi", w.osi);
+    }
+  }
+}
