@@ -63,6 +63,15 @@ static const good_case goods[] = {
   {"pressure_source", "{\"pressure\":\"100 mbar\"}", 0},
   {"pressure_source", "{\"pressure\":{\"shape\":\"sine\",\"mean\":\"50 mbar\",\"amplitude\":"
                       "\"20 mbar\",\"frequency\":\"4 Hz\"},\"resistance\":3e11}", 0},
+  {"check_valve", "{\"crack_forward\":\"5 mmHg\",\"crack_reverse\":\"1 bar\","
+                  "\"open_resistance\":\"1e11 Pa.s/m3\"}", 1},
+  {"check_valve", "{\"crack_forward\":500,\"crack_reverse\":2000,\"reseat_forward\":100,"
+                  "\"reseat_reverse\":800,\"blowout\":\"100 mbar\",\"open_resistance\":1e11,"
+                  "\"leak_conductance\":0}", 1},
+  {"ferrofluid_valve", "{\"crack_forward\":\"4 mmHg\",\"crack_reverse\":\"20 mmHg\","
+                       "\"reseat_forward\":\"1 mmHg\",\"reseat_reverse\":\"9 mmHg\","
+                       "\"blowout_forward\":\"40 mmHg\",\"blowout_reverse\":\"60 mmHg\","
+                       "\"open_resistance\":2e11}", 1},
 };
 
 typedef struct bad_case {
@@ -83,6 +92,20 @@ static const bad_case bads[] = {
   {"channel", "{\"length\":0.01,\"diameter\":1e-4,\"viscosity\":0}", ".viscosity"},
   {"channel", "{\"length\":0.01,\"diameter\":1e-4,\"inertance\":\"yes\"}", ".inertance"},
   {"channel", "{\"lenght\":0.01,\"diameter\":1e-4}", ".lenght"},
+  {"check_valve", "{\"crack_reverse\":2000,\"open_resistance\":1e11}", ".crack_forward"},
+  {"check_valve", "{\"crack_forward\":500,\"crack_reverse\":2000}", ".open_resistance"},
+  {"check_valve", "{\"crack_forward\":500,\"crack_reverse\":2000,\"reseat_forward\":600,"
+                  "\"open_resistance\":1e11}", ".reseat_forward"},
+  {"check_valve", "{\"crack_forward\":500,\"crack_reverse\":2000,\"reseat_reverse\":2000,"
+                  "\"open_resistance\":1e11}", ".reseat_reverse"},
+  {"check_valve", "{\"crack_forward\":500,\"crack_reverse\":2000,\"blowout\":1000,"
+                  "\"open_resistance\":1e11}", ".blowout"},
+  {"check_valve", "{\"crack_forward\":\"5 mm\",\"crack_reverse\":2000,\"open_resistance\":1e11}",
+   ".crack_forward"},
+  {"check_valve", "{\"crack_forward\":500,\"crack_reverse\":2000,\"open_resistance\":1e11,"
+                  "\"leak_conductance\":-1}", ".leak_conductance"},
+  {"ferrofluid_valve", "{\"crack_forward\":500,\"open_resistance\":1e11}", ".crack_reverse"},
+  {"ferrofluid_valve", "{\"design\":5,\"open_resistance\":1e11}", ".design"},
   {"resistor", "{}", ".resistance"},
   {"resistor", "{\"resistance\":-1e12}", ".resistance"},
   {"resistor", "{\"resistance\":\"1 m\"}", ".resistance"},

@@ -21,7 +21,7 @@ typedef struct rec {
   double *q;      /* n x nE [m^3/s] */
 } rec;
 
-static int rec_sample(void *ctx, double t, const double *p, const double *q, const int *mode)
+static inline int rec_sample(void *ctx, double t, const double *p, const double *q, const int *mode)
 {
   rec *r = ctx;
   (void)mode;
@@ -45,7 +45,7 @@ static int rec_sample(void *ctx, double t, const double *p, const double *q, con
   return 0;
 }
 
-static void rec_free(rec *r)
+static inline void rec_free(rec *r)
 {
   free(r->t);
   free(r->p);
@@ -54,14 +54,14 @@ static void rec_free(rec *r)
 }
 
 /* Pressure of node `name` at sample k, flow of element `id` at sample k. */
-static double rec_p(const rec *r, const fc_net *net, size_t k, const char *name)
+static inline double rec_p(const rec *r, const fc_net *net, size_t k, const char *name)
 {
   int n = fc_net_node_find(net, name);
   if (n < 0) { fprintf(stderr, "no node %s\n", name); abort(); }
   return r->p[k * (size_t)r->nN + (size_t)n];
 }
 
-static double rec_q(const rec *r, const fc_net *net, size_t k, const char *id)
+static inline double rec_q(const rec *r, const fc_net *net, size_t k, const char *id)
 {
   int i = fc_net_elem_find(net, id);
   if (i < 0) { fprintf(stderr, "no element %s\n", id); abort(); }
@@ -79,14 +79,14 @@ typedef struct run {
 
 static fc_units *g_units; /* opened once per test executable (UDUNITS takes ~9 ms) */
 
-static int units_setup(void **state)
+static inline int units_setup(void **state)
 {
   fc_error err = {0};
   (void)state;
   return fc_units_open(&g_units, &err);
 }
 
-static int units_teardown(void **state)
+static inline int units_teardown(void **state)
 {
   (void)state;
   fc_units_free(g_units);
@@ -96,7 +96,7 @@ static int units_teardown(void **state)
 
 /* Load and run `json`; on a load error rc_load is set and nothing is run. Prints the error so
  * that a failing assertion is explained in the test log. */
-static void run_json(run *R, const char *json)
+static inline void run_json(run *R, const char *json)
 {
   memset(R, 0, sizeof *R);
   R->rc_load = fc_net_load_buffer(json, strlen(json), "test.json", "", g_units, &R->net, &R->err);
@@ -112,7 +112,7 @@ static void run_json(run *R, const char *json)
     fprintf(stderr, "run: %s: %s (%s)\n", R->err.path, R->err.msg, fc_error_name(R->rc_sim));
 }
 
-static void run_free(run *R)
+static inline void run_free(run *R)
 {
   fc_sim_result_free(R->res);
   fc_net_free(R->net);
