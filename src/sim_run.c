@@ -213,7 +213,7 @@ int fci_run_events(fci_run *R, double t, const double *x, const int *found, int 
     int old = e->mode;
     if (!e->type->xEvent(e, t, found + e->iRoot, pp, e->nState ? x + e->iState : NULL)) continue;
     *changed = 1;
-    s->gdirty = 1;
+    fci_sys_invalidate(s);
     R->res->stats.events++;
     if (e->mode == 2 && !R->res->blown_elem[i]) { R->res->blown_elem[i] = 1; R->res->blown_time[i] = t; }
     if ((rc = fci_cycles_chatter(R, i, t, err))) return rc;
@@ -272,7 +272,7 @@ int fci_run_release(fci_run *R, double t, const double *x, int *changed, fc_erro
     int old = e->mode;
     if (!e->type->xEvent || !e->type->xEvent(e, t, none, pp, e->nState ? x + e->iState : NULL)) continue;
     *changed = 1;
-    s->gdirty = 1;
+    fci_sys_invalidate(s);
     R->res->stats.events++;
     if (R->sink && R->sink->xEvent &&
         R->sink->xEvent(R->sink->ctx, t, R->mode_el[k], old, e->mode, pp[0] - pp[1]))

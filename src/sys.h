@@ -76,14 +76,22 @@ typedef struct fci_sys {
   double *abuf;             /* nx + nz */
   double *Cpre;             /* per store index: compliance at the last preconditioner setup */
   long nGfact, nAfact;      /* factorisations done, for statistics */
+  double *xlast;            /* nx: state of the last evaluation, for the cache */
+  double tlast;             /* its time */
+  int cached;               /* 1 if p, q, qin hold the evaluation at (tlast, xlast) */
+  long nEval, nEvalHit;     /* evaluations requested, and answered from the cache */
 } fci_sys;
 
 /* Classify nodes, check topology, build patterns and symbolic factorisations. */
 int fci_sys_build(fc_net *net, fci_sys **out, fc_error *err);
 void fci_sys_free(fci_sys *s);
+/* Forget the cached evaluation and refactor the conservation matrix next time (mode switch). */
+void fci_sys_invalidate(fci_sys *s);
 
 /* Evaluate every node pressure, element flow and node inflow at (t, x); x may be NULL when
- * nx == 0. Returns 0, or >0 if the algebraic solve failed (singular: recoverable by a smaller
+ * nx == 0. The last evaluation is cached: CVODE asks for the same point from the right-hand
+ * side, the quadratures and the step bookkeeping. Anything that changes a mode must call
+ * fci_sys_invalidate. Returns 0, or >0 if the algebraic solve failed (singular: recoverable by a smaller
  * step only if caused by a transient state; the caller decides). */
 int fci_sys_eval(fci_sys *s, double t, const double *x);
 /* After fci_sys_eval: f = dx/dt into xdot (length nx). */

@@ -92,13 +92,28 @@ static void link_flows(fci_sys *s)
   }
 }
 
+void fci_sys_invalidate(fci_sys *s)
+{
+  s->cached = 0;
+  s->gdirty = 1;
+}
+
 int fci_sys_eval(fci_sys *s, double t, const double *x)
 {
+  s->nEval++;
+  if (s->cached && t == s->tlast && (s->nx == 0 || !memcmp(x, s->xlast, (size_t)s->nx * sizeof *x))) {
+    s->nEvalHit++;
+    return 0;
+  }
+  s->cached = 0;
   fixed_pressures(s, t);
   for (int k = 0; k < s->ns; k++) s->p[s->xnode[k]] = x[k];
   flows(s, t, x);
   if (s->nz > 0 && solve_alg(s, t, x)) return 1;
   link_flows(s);
+  if (s->nx) memcpy(s->xlast, x, (size_t)s->nx * sizeof *x);
+  s->tlast = t;
+  s->cached = 1;
   return 0;
 }
 

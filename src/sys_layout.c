@@ -170,7 +170,7 @@ int fci_sys_build(fc_net *net, fci_sys **out, fc_error *err)
   }
   if ((rc = fci_sys_classify(s, err)) || (rc = layout(s, err)) || (rc = build_patterns(s, err)))
     goto fail;
-  if (!NEW(s->Csum, s->ns) || !NEW(s->dCsum, s->ns) || !NEW(s->zbuf, s->nz) || !NEW(s->Cpre, s->ns) ||
+  if (!NEW(s->Csum, s->ns) || !NEW(s->dCsum, s->ns) || !NEW(s->zbuf, s->nz) || !NEW(s->Cpre, s->ns) || !NEW(s->xlast, s->nx) ||
       !NEW(s->abuf, s->nx + s->nz + 1)) {
     rc = fc_fail(err, FC_ENOMEM, NULL, "out of memory");
     goto fail;
@@ -190,7 +190,7 @@ void fci_sys_free(fci_sys *s)
   fci_klu_free(&s->ak);
   fci_csc_free(&s->G);
   fci_csc_free(&s->A);
-  fc_free(s->kind); fc_free(s->idx); fc_free(s->fix_order); fc_free(s->fix_node); fc_free(s->Cpre); fc_free(s->store_ptr);
+  fc_free(s->kind); fc_free(s->idx); fc_free(s->fix_order); fc_free(s->fix_node); fc_free(s->Cpre); fc_free(s->xlast); fc_free(s->store_ptr);
   fc_free(s->store_el); fc_free(s->xnode); fc_free(s->znode); fc_free(s->p); fc_free(s->q);
   fc_free(s->dqa); fc_free(s->dqb); fc_free(s->dqx); fc_free(s->qin); fc_free(s->Csum);
   fc_free(s->dCsum); fc_free(s->zbuf); fc_free(s->gslot); fc_free(s->aslot); fc_free(s->abuf);
