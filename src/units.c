@@ -22,6 +22,7 @@
 #include <string.h>
 #include <udunits2.h>
 
+#include "elem.h" /* fci_check_keys */
 #include "ferrocirc/alloc.h"
 
 #define UNIT_TEXT_MAX 200 /* longest quantity string we accept */
@@ -239,6 +240,43 @@ int fc_units_parse(const fc_units *u, const char *text, fc_dim dim, double *si,
   return FC_OK;
 }
 
+/* {"value": V, "tolerance": "±T", "distribution": "normal" | "uniform"}: V is the nominal value
+ * used by a single run; design studies sample it (normal: T is 2 sigma; uniform: +-T). */
+int fc_units_json_toleranced(const fc_units *u, const cJSON *obj, fc_dim dim, double *si,
+                             fc_tolerance *tol, const char *path, fc_error *err)
+{
+  static const char *const keys[] = {"value", "tolerance", "distribution", NULL};
+  char p[320];
+  int rc = fci_check_keys(obj, keys, NULL, path, err);
+  if (rc) return rc;
+  fc_tolerance t = {0, 0};
+  snprintf(p, sizeof p, "%s.value", path);
+  const cJSON *v = cJSON_GetObjectItemCaseSensitive(obj, "value");
+  if (cJSON_IsObject(v)) return fc_fail(err, FC_EJSON, p, "expected a number or a quantity string");
+  if ((rc = fc_units_json(u, v, dim, si, p, err))) return rc;
+  const cJSON *tj = cJSON_GetObjectItemCaseSensitive(obj, "tolerance");
+  snprintf(p, sizeof p, "%s.tolerance", path);
+  if (!tj) return fc_fail(err, FC_EPARAM, p, "missing; expected a tolerance such as \"±0.05 mm\"");
+  if (cJSON_IsString(tj)) {
+    const char *s = tj->valuestring;
+    if (!strncmp(s, "\xc2\xb1", 2)) s += 2;       /* ± */
+    else if (!strncmp(s, "+-", 2) || !strncmp(s, "+/-", 3)) s += s[1] == '/' ? 3 : 2;
+    if ((rc = fc_units_parse(u, s, dim, &t.half_width, p, err))) return rc;
+  } else if (cJSON_IsNumber(tj) && isfinite(tj->valuedouble)) {
+    t.half_width = tj->valuedouble;
+  } else {
+    return fc_fail(err, FC_EJSON, p, "expected a tolerance such as \"±0.05 mm\"");
+  }
+  if (!(t.half_width >= 0)) return fc_fail(err, FC_EPARAM, p, "must be >= 0");
+  const cJSON *d = cJSON_GetObjectItemCaseSensitive(obj, "distribution");
+  snprintf(p, sizeof p, "%s.distribution", path);
+  if (!d || (cJSON_IsString(d) && !strcmp(d->valuestring, "normal"))) t.uniform = 0;
+  else if (cJSON_IsString(d) && !strcmp(d->valuestring, "uniform")) t.uniform = 1;
+  else return fc_fail(err, FC_EPARAM, p, "expected \"normal\" or \"uniform\"");
+  if (tol) *tol = t;
+  return FC_OK;
+}
+
 int fc_units_json(const fc_units *u, const cJSON *item, fc_dim dim, double *si,
                   const char *path, fc_error *err)
 {
@@ -250,6 +288,8 @@ int fc_units_json(const fc_units *u, const cJSON *item, fc_dim dim, double *si,
   }
   if (cJSON_IsString(item) && item->valuestring)
     return fc_units_parse(u, item->valuestring, dim, si, path, err);
+  if (cJSON_IsObject(item) && cJSON_GetObjectItemCaseSensitive(item, "value"))
+    return fc_units_json_toleranced(u, item, dim, si, NULL, path, err);
   return fc_fail(err, FC_EJSON, path, "expected %s %s: a number in SI (%s) or a string such as "
                  "\"%s\"", article(dims[dim].name), dims[dim].name, dims[dim].si,
                  dims[dim].example);

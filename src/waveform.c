@@ -447,8 +447,9 @@ int fc_waveform_parse(const cJSON *j, fc_dim dim, const fc_units *u, const char 
   *out = NULL;
   fc_waveform *w = fc_calloc(1, sizeof *w);
   if (!w) return fc_fail(err, FC_ENOMEM, path, "out of memory");
-  if (!cJSON_IsObject(j)) {
-    w->shape = W_CONST;
+  if (!cJSON_IsObject(j) || (!cJSON_GetObjectItemCaseSensitive(j, "shape") &&
+                              cJSON_GetObjectItemCaseSensitive(j, "tolerance"))) {
+    w->shape = W_CONST; /* a plain or toleranced quantity is a constant */
     rc = fc_units_json(u, j, dim, &w->a, path, err);
     goto done;
   }

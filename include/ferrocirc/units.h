@@ -51,9 +51,21 @@ const char *fc_dim_name(fc_dim dim);
 int fc_units_parse(const fc_units *u, const char *text, fc_dim dim, double *si,
                    const char *path, fc_error *err);
 
-/* A JSON value that is a number (SI) or a string with a unit; rejects NaN/inf and other types. */
+/* A JSON value that is a number (SI), a string with a unit, or a toleranced value (below);
+ * rejects NaN/inf and other types. */
 int fc_units_json(const fc_units *u, const struct cJSON *item, fc_dim dim, double *si,
                   const char *path, fc_error *err);
+
+/* A value with a manufacturing tolerance (design studies sample it; single runs use the value). */
+typedef struct fc_tolerance {
+  double half_width;  /* normal: 2 sigma; uniform: half the range [SI] */
+  int    uniform;     /* 1 uniform, 0 normal */
+} fc_tolerance;
+
+/* {"value": V, "tolerance": "±T", "distribution": "normal"|"uniform"}: *si = V; *tol (may be
+ * NULL) the tolerance. fc_units_json accepts this form wherever a quantity is expected. */
+int fc_units_json_toleranced(const fc_units *u, const struct cJSON *obj, fc_dim dim, double *si,
+                             fc_tolerance *tol, const char *path, fc_error *err);
 
 /* For output: factor such that value_in_unit = si * factor (dimensions without offset only).
  * FC_EPARAM with a message naming `what` if the unit does not parse or has the wrong dimension. */
