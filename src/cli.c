@@ -17,6 +17,11 @@ static const char usage[] =
   "                       simulate a network, write the time series and a summary\n"
   "  check NETWORK.json   validate; list nodes, elements, resistances, time constants\n"
   "  demo [-o demo.csv]   run the built-in organ-on-chip demo network\n"
+  "  sweep NETWORK.json --vary PATH=FROM..TO [--steps N] [--vary ...] -o OUT.csv\n"
+  "  sweep NETWORK.json --monte-carlo K [--seed S] -o OUT.csv   [--jobs N] [--shard I/N]\n"
+  "                       design studies: one row of metrics per point (docs/design-studies.md)\n"
+  "  merge SHARD.csv... -o OUT.csv [--stats NETWORK.json]\n"
+  "                       join the shards of a study into the bytes of an unsharded run\n"
   "  valve DESIGN.json [--json] [--unit U] [--profile OUT.csv]\n"
   "        [--vary PATH=FROM..TO --steps N -o OUT.csv]\n"
   "                       cracking, reseat and blowout pressures of a ferrofluid valve design\n"
@@ -98,6 +103,8 @@ int fci_cli_main(int argc, char **argv)
   if (!strcmp(argv[1], "run")) return fci_cli_run(argc - 1, argv + 1);
   if (!strcmp(argv[1], "demo")) return fci_cli_demo(argc - 1, argv + 1);
   if (!strcmp(argv[1], "check")) return fci_cli_check(argc - 1, argv + 1);
+  if (!strcmp(argv[1], "sweep")) return fci_cli_sweep(argc - 1, argv + 1);
+  if (!strcmp(argv[1], "merge")) return fci_cli_merge(argc - 1, argv + 1);
   if (!strcmp(argv[1], "valve") && fc_valve_cli) return fc_valve_cli(argc - 1, argv + 1);
   fprintf(stderr, "ferrocirc: unknown command \"%s\"\n%s", argv[1], usage);
   return 2;

@@ -9,6 +9,8 @@ int fci_cli_main(int argc, char **argv);
 int fci_cli_run(int argc, char **argv);   /* "run" */
 int fci_cli_demo(int argc, char **argv);  /* "demo" */
 int fci_cli_check(int argc, char **argv); /* "check" */
+int fci_cli_sweep(int argc, char **argv); /* "sweep" (src/cli_sweep.c) */
+int fci_cli_merge(int argc, char **argv); /* "merge" */
 /* Print err to stderr as "ferrocirc: FILE:LINE:COL: PATH: MESSAGE"; returns its exit status. */
 int fci_cli_report(const fc_error *err);
 /* The embedded demo network (src/demo.c). */

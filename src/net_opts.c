@@ -23,7 +23,7 @@ static const char *const sim_keys[] = {"duration", "cycles", "cycle_period", "sa
                                        "chatter", NULL};
 static const char *const chatter_keys[] = {"max_switches", "window", "action", NULL};
 static const char *const report_keys[] = {"pressure_unit", "flow_unit", "elements",
-                                          "shear_range", "pressure_limit", NULL};
+                                          "shear_range", "pressure_limit", "limits", NULL};
 
 int fci_net_parse_fluid(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc_error *err)
 {
@@ -227,6 +227,13 @@ static int parse_limits(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, f
   if ((rc = fci_get_quantity(j, "pressure_limit", FC_DIM_PRESSURE, 0, INFINITY, FCI_POS,
                              &r->pressure_limit, P, ctx, err)))
     return rc;
+  /* report.limits: upper bounds on design-study metrics, checked by `ferrocirc sweep`. */
+  const cJSON *lim = j ? cJSON_GetObjectItemCaseSensitive(j, "limits") : NULL;
+  if (lim && !cJSON_IsObject(lim)) return fc_fail(err, FC_EJSON, "$.report.limits", "expected an object");
+  for (const cJSON *v = lim ? lim->child : NULL; v; v = v->next)
+    if (!cJSON_IsNumber(v) || !isfinite(v->valuedouble))
+      return fc_fail(err, FC_EJSON, "$.report.limits", "\"%s\": expected a number (an upper "
+                     "bound in the metric's column unit)", v->string);
   const cJSON *sr = j ? cJSON_GetObjectItemCaseSensitive(j, "shear_range") : NULL;
   if (!sr) return FC_OK;
   if (!cJSON_IsArray(sr) || cJSON_GetArraySize(sr) != 2)

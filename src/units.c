@@ -329,3 +329,25 @@ int fc_units_out_factor(const fc_units *u, const char *unit, fc_dim dim, double 
   *factor = f;
   return FC_OK;
 }
+
+int fc_units_convert(const fc_units *u, double x, const char *from, const char *to, double *y,
+                     fc_error *err)
+{
+  char a[UNIT_TEXT_MAX + 1], b[UNIT_TEXT_MAX + 1];
+  if (strlen(from) > UNIT_TEXT_MAX || strlen(to) > UNIT_TEXT_MAX)
+    return fc_fail(err, FC_EPARAM, NULL, "unit longer than %d characters", UNIT_TEXT_MAX);
+  if (!strcmp(from, to)) { *y = x; return FC_OK; }
+  memcpy(a, from, strlen(from) + 1);
+  memcpy(b, to, strlen(to) + 1);
+  char *sa = trim(a), *sb = trim(b);
+  ut_unit *ua = *sa ? ut_parse(u->sys, sa, UT_UTF8) : ut_get_dimensionless_unit_one(u->sys);
+  ut_unit *ub = *sb ? ut_parse(u->sys, sb, UT_UTF8) : ut_get_dimensionless_unit_one(u->sys);
+  cv_converter *cv = ua && ub && ut_are_convertible(ua, ub) ? ut_get_converter(ua, ub) : NULL;
+  int rc = FC_OK;
+  if (cv) *y = cv_convert_double(cv, x);
+  else rc = fc_fail(err, FC_EPARAM, NULL, "cannot convert \"%s\" to \"%s\"", from, to);
+  cv_free(cv);
+  if (*sa) ut_free(ua);
+  if (*sb) ut_free(ub);
+  return rc;
+}

@@ -72,4 +72,9 @@ int fc_units_json_toleranced(const fc_units *u, const struct cJSON *obj, fc_dim 
 int fc_units_out_factor(const fc_units *u, const char *unit, fc_dim dim, double *factor,
                         const char *what, fc_error *err);
 
+/* Convert x from unit text `from` to `to` ("" = dimensionless number); FC_EPARAM if not
+ * convertible. */
+int fc_units_convert(const fc_units *u, double x, const char *from, const char *to, double *y,
+                     fc_error *err);
+
 #endif
