@@ -8,7 +8,6 @@
 #include "net.h"
 #include "sys.h"
 
-int fc_valve_cli(int argc, char **argv) __attribute__((weak)); /* WIRING: until src/valve lands */
 
 static const char usage[] =
   "usage: ferrocirc COMMAND [ARGS]\n"
@@ -105,7 +104,7 @@ int fci_cli_main(int argc, char **argv)
   if (!strcmp(argv[1], "check")) return fci_cli_check(argc - 1, argv + 1);
   if (!strcmp(argv[1], "sweep")) return fci_cli_sweep(argc - 1, argv + 1);
   if (!strcmp(argv[1], "merge")) return fci_cli_merge(argc - 1, argv + 1);
-  if (!strcmp(argv[1], "valve") && fc_valve_cli) return fc_valve_cli(argc - 1, argv + 1);
+  if (!strcmp(argv[1], "valve")) return fc_valve_cli(argc - 1, argv + 1);
   fprintf(stderr, "ferrocirc: unknown command \"%s\"\n%s", argv[1], usage);
   return 2;
 }

@@ -7,10 +7,9 @@
  *                 res->v_inflow[n] (time integral of the node's net inflow);
  *   whole network the volume that crossed the boundary (the net volumes of the two-terminal
  *                 elements joining an imposed-pressure node to the interior) equals sum v_stored.
- * The relative error is taken against the larger of |v_stored| and |v_inflow| at the node, and
- * against the volume pumped through the node (sum of |v_net| of its elements) where that is the
- * larger, so that a periodic run whose stored volume returns to ~0 is not judged on a vanishing
- * denominator. */
+ * The error is reported relative to the stored volume (the issue's measure) and relative to the
+ * volume pumped through the node (half the sum of |v_net| of its elements), the natural scale
+ * of an integration error, which a periodic run's small net stored volume would hide. */
 #define _POSIX_C_SOURCE 200809L
 #include <stdarg.h>
 #include <stddef.h>
@@ -46,16 +45,17 @@ static void boundary_nodes(const fc_net *net, int *fixed)
  * (max(|v_stored|, |v_inflow|)), per node against the volume pumped through the node (half the
  * sum of |v_net| of its elements), and over the boundary against sum v_stored. */
 typedef struct cons_err {
-  double stored, through, boundary;
+  double stored, through;    /* per node: vs stored volume, vs volume pumped through */
+  double boundary, bthrough; /* network: vs total stored, vs volume across the boundary */
 } cons_err;
 
 static cons_err conservation_errors(const fc_net *net, const fc_sim_result *res)
 {
   int fixed[64];
-  cons_err ce = {0, 0, 0};
+  cons_err ce = {0, 0, 0, 0};
   assert_true(net->nNode <= 64);
   boundary_nodes(net, fixed);
-  double through[64] = {0}, vin = 0, vst = 0;
+  double through[64] = {0}, vin = 0, vst = 0, bthrough = 0;
   for (int i = 0; i < net->nElem; i++) {
     const fc_elem *e = &net->elem[i];
     if (e->nTerm != 2) continue;
@@ -64,6 +64,7 @@ static cons_err conservation_errors(const fc_net *net, const fc_sim_result *res)
     int fa = fixed[e->node[0]], fb = fixed[e->node[1]];
     if (fa && !fb) vin += res->v_net[i];
     if (fb && !fa) vin -= res->v_net[i];
+    if (fa != fb) bthrough += fabs(res->v_net[i]);
   }
   for (int n = 0; n < net->nNode; n++) {
     double d = fabs(res->v_stored[n] - res->v_inflow[n]);
@@ -74,32 +75,39 @@ static cons_err conservation_errors(const fc_net *net, const fc_sim_result *res)
   }
   double s = fmax(fabs(vst), fabs(vin));
   ce.boundary = s > 0 ? fabs(vst - vin) / s : 0;
+  ce.bthrough = bthrough > 0 ? fabs(vst - vin) / bthrough : 0;
   return ce;
 }
 
-/* Run json with rel_tol inserted into its "simulation" object; returns the errors. */
-static cons_err run_conservation(const char *json, const char *name, double rel_tol)
+/* Run json (whose "simulation" object sets no tolerances) with rel_tol and abs_tol [Pa] added
+ * to that object; returns the errors and prints them (the figures reported come from here). */
+static cons_err run_conservation(const char *json, const char *name, double rel_tol,
+                                 double abs_tol)
 {
-  char buf[JSON_MAX], ins[64];
+  char buf[JSON_MAX], ins[128];
   const char *at = strstr(json, "\"simulation\"");
   assert_non_null(at);
   at = strchr(at, '{');
   assert_non_null(at);
-  snprintf(ins, sizeof ins, "\"rel_tol\": %g, ", rel_tol);
+  snprintf(ins, sizeof ins, "\"rel_tol\": %g, \"abs_tol\": \"%g Pa\", ", rel_tol, abs_tol);
   int n = snprintf(buf, sizeof buf, "%.*s%s%s", (int)(at + 1 - json), json, ins, at + 1);
   assert_true(n > 0 && n < (int)sizeof buf);
   run R;
   run_json(&R, buf);
   int ok = R.rc_load == FC_OK && R.rc_sim == FC_OK;
-  cons_err ce = {INFINITY, INFINITY, INFINITY};
+  cons_err ce = {INFINITY, INFINITY, INFINITY, INFINITY};
   if (ok) ce = conservation_errors(R.net, R.res);
   run_free(&R);
   assert_true(ok);
-  print_message("%-16s rel_tol %.0e: |dV - int q| / dV %.2e, / throughput %.2e; "
-                "boundary %.2e\n", name, rel_tol, ce.stored, ce.through, ce.boundary);
+  print_message("%-14s rel_tol %.0e abs_tol %.0e Pa: |dV - int q| / dV %.2e, / throughput %.2e;"
+                " boundary %.2e, / throughput %.2e\n", name, rel_tol, abs_tol, ce.stored,
+                ce.through, ce.boundary, ce.bthrough);
   return ce;
 }
 
+/* Linear compliances only: an RC ladder with an inertial tube, a pulse source and a
+ * hydrostatic head. V = C p is linear in the state, so V and the inflow quadrature obey the
+ * same BDF recurrence and differ only by the Newton residual. %s: extra keys of C2. */
 static const char ladder_json[] =
   "{\"format\":\"ferrocirc-network/1\",\"elements\":["
   "{\"id\":\"in\",\"type\":\"reservoir\",\"node\":\"in\",\"pressure\":{\"shape\":\"pulse\","
@@ -108,11 +116,13 @@ static const char ladder_json[] =
   "{\"id\":\"C1\",\"type\":\"chamber\",\"node\":\"n1\",\"compliance\":2e-14},"
   "{\"id\":\"tube\",\"type\":\"channel\",\"from\":\"n1\",\"to\":\"n2\",\"length\":\"0.5 m\","
   "\"diameter\":\"0.5 mm\",\"inertance\":true},"
-  "{\"id\":\"C2\",\"type\":\"chamber\",\"node\":\"n2\",\"compliance\":5e-15,"
-  "\"backing_pressure\":{\"shape\":\"sine\",\"mean\":0,\"amplitude\":\"5 mbar\",\"frequency\":\"2 Hz\"}},"
+  "{\"id\":\"C2\",\"type\":\"chamber\",\"node\":\"n2\",\"compliance\":5e-15%s},"
   "{\"id\":\"R3\",\"type\":\"resistor\",\"from\":\"n2\",\"to\":\"out\",\"resistance\":3e12},"
   "{\"id\":\"out\",\"type\":\"reservoir\",\"node\":\"out\",\"liquid_height\":\"5 mm\"}],"
   "\"simulation\":{\"duration\":\"2.3 s\",\"sample_interval\":\"10 ms\"}}";
+/* ... C2 as a driven membrane instead (backing pressure: V = C (p - p_back(t))). */
+static const char backing[] = ",\"backing_pressure\":{\"shape\":\"sine\",\"mean\":0,"
+                              "\"amplitude\":\"5 mbar\",\"frequency\":\"2 Hz\"}";
 
 /* Nonlinear gas bubbles (isothermal, C = V0 p0/p_abs^2, §2) fed by a sine flow source. */
 static const char gas_json[] =
@@ -128,37 +138,69 @@ static const char gas_json[] =
   "{\"id\":\"waste\",\"type\":\"reservoir\",\"node\":\"w\"}],"
   "\"simulation\":{\"duration\":\"10 s\",\"sample_interval\":\"10 ms\"}}";
 
-static const double tols[] = {1e-6, 1e-8, 1e-10};
+#define TIGHT_REL 1e-12 /* with TIGHT_ABS [Pa]: what the 1e-9 requirement needs (measured) */
+#define TIGHT_ABS 1e-11
 
-static void explore(const char *json, const char *name)
-{
-  for (int k = 0; k < 3; k++) run_conservation(json, name, tols[k]);
-}
-
-static void linear_networks_conserve_volume(void **state)
+/* Linear network at tight tolerances: the 1e-9 relative, against the stored volume. */
+static void linear_network_conserves_volume_to_1e9(void **state)
 {
   (void)state;
-  explore(ladder_json, "linear ladder");
+  char json[JSON_MAX];
+  snprintf(json, sizeof json, ladder_json, "");
+  cons_err ce = run_conservation(json, "linear ladder", TIGHT_REL, TIGHT_ABS);
+  CHECK_CLOSE(ce.stored, 0, 1e-9, 1, "dV = integral of inflow, per node (continuity)");
+  CHECK_CLOSE(ce.boundary, 0, 1e-9, 1, "boundary inflow = total stored (continuity)");
 }
 
-static void demo_network_conserves_volume(void **state)
+/* Shipped tolerances (rel_tol 1e-6, abs_tol 1e-3 Pa): per node the mismatch stays within a few
+ * rel_tol of the volume pumped through the node, for every kind of store. */
+static void networks_conserve_volume_at_default_tolerances(void **state)
 {
   (void)state;
-  explore(fci_demo_network, "demo");
+  char lin[JSON_MAX], back[JSON_MAX];
+  snprintf(lin, sizeof lin, ladder_json, "");
+  snprintf(back, sizeof back, ladder_json, backing);
+  const char *nets[] = {lin, back, gas_json, fci_demo_network};
+  const char *names[] = {"linear ladder", "backed ladder", "gas bubbles", "demo"};
+  for (int k = 0; k < 4; k++) {
+    cons_err ce = run_conservation(nets[k], names[k], 1e-6, 1e-3);
+    CHECK_CLOSE(ce.through, 0, 5e-6, 1, "|dV - int q| / throughput, default tolerances");
+    CHECK_CLOSE(ce.bthrough, 0, 5e-6, 1, "boundary vs stored / boundary throughput");
+  }
 }
 
-static void gas_bubble_network_conserves_volume(void **state)
+/* The issue's requirement for stores whose volume law is nonlinear (gas) or time-dependent
+ * (backing pressure), at the tolerances with which the linear ladder meets it. FAILS at the
+ * time of writing (measured: gas 9.1e-10 passes, backed ladder 3.9e-8, demo 7.5e-9): with the
+ * pressure as state, C(p) dp/dt = q + C dp_back/dt, the BDF recurrence holds for p, not for
+ * V(p) or V(p - p_back(t)), so the mismatch follows the step size rather than the tolerance
+ * (demo at its shipped tolerances: 3.3e-3; the same demo with its bubble made a constant
+ * compliance: 7e-6; with max_step 1 ms: 5e-5). A volume-based store state would fix it. */
+static void nonlinear_stores_conserve_volume_to_1e9(void **state)
 {
   (void)state;
-  explore(gas_json, "gas bubbles");
+  char back[JSON_MAX];
+  snprintf(back, sizeof back, ladder_json, backing);
+  const char *nets[] = {gas_json, back, fci_demo_network};
+  const char *names[] = {"gas bubbles", "backed ladder", "demo"};
+  int bad = 0;
+  for (int k = 0; k < 3; k++) {
+    cons_err ce = run_conservation(nets[k], names[k], TIGHT_REL, TIGHT_ABS);
+    if (!(ce.stored <= 1e-9) || !(ce.boundary <= 1e-9)) {
+      print_error("%s: conservation error %.2e (per node), %.2e (boundary) of the stored "
+                  "volume; required 1e-9\n", names[k], ce.stored, ce.boundary);
+      bad++;
+    }
+  }
+  assert_int_equal(bad, 0);
 }
 
 int main(void)
 {
   const struct CMUnitTest tests[] = {
-    cmocka_unit_test(linear_networks_conserve_volume),
-    cmocka_unit_test(demo_network_conserves_volume),
-    cmocka_unit_test(gas_bubble_network_conserves_volume),
+    cmocka_unit_test(linear_network_conserves_volume_to_1e9),
+    cmocka_unit_test(networks_conserve_volume_at_default_tolerances),
+    cmocka_unit_test(nonlinear_stores_conserve_volume_to_1e9),
   };
   return cmocka_run_group_tests(tests, units_setup, units_teardown);
 }

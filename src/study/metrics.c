@@ -117,7 +117,8 @@ void fci_metrics_values(const fc_net *net, const fc_sim_result *r, fci_metrics *
     if (last < 0) continue;
     size_t c = (size_t)last * r->nNode + n;
     double mean = r->cyc_p_mean[c];
-    if (fabs(mean) > 1e-12 * (fabs(r->cyc_p_max[c]) + 1e-300))
+    /* A node whose mean is ~0 against its swing (an AC-driven node) has no meaningful PI. */
+    if (fabs(mean) > 1e-3 * (r->cyc_p_max[c] - r->cyc_p_min[c]) && mean != 0)
       pimax = pmax(pimax, (r->cyc_p_max[c] - r->cyc_p_min[c]) / fabs(mean));
   }
   m->value[k++] = rfmax;

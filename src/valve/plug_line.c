@@ -46,24 +46,34 @@ static double clamp_angle(double t)
   return t < 0.0 ? 0.0 : (t > M_PI ? M_PI : t);
 }
 
-/* Pi for a meniscus at node x: side = +1 plug on its +x side, -1 on its -x side. */
-static double cap_at(const fc_valve_design *d, double x, double theta, int side)
+/* Pi for a meniscus in a section of shape (w, h, dw/dx, dh/dx): side = +1 plug on its +x side,
+ * -1 on its -x side. */
+static double cap_at(const fc_valve_design *d, const double shape[4], double theta, int side)
 {
-  double w, h, dw, dh;
-  fci_design_shape(d, x, &w, &h, &dw, &dh);
-  double bw = atan(0.5 * dw), bh = atan(dh);
+  double bw = atan(0.5 * shape[2]), bh = atan(shape[3]);
   double tw = clamp_angle(theta - side * bw), th = clamp_angle(theta - side * bh);
-  return fci_young_laplace(d->gamma, w, h, th, theta, tw, tw);
+  return fci_young_laplace(d->gamma, shape[0], shape[1], th, theta, tw, tw);
 }
 
-static void fill_caps(const fc_valve_design *d, fci_line *L, int j)
+/* Section shape (w, h, dw/dx, dh/dx) at x; at a node exactly on a section boundary both sides
+ * are returned and averaged by the caller, so that a mirrored design samples mirrored values. */
+static int node_shapes(const fc_valve_design *d, double x, const fci_section *sec[2],
+                       double shape[2][4])
 {
-  const fci_section *s = fci_design_section(d, L->x[j]);
-  double th[3] = {s->th_rec, s->th_adv, acos(0.5 * (cos(s->th_rec) + cos(s->th_adv)))};
-  for (int k = 0; k < 3; k++) {
-    L->c1[k][j] = cap_at(d, L->x[j], th[k], +1);
-    L->c2[k][j] = cap_at(d, L->x[j], th[k], -1);
+  int n = 0;
+  for (int i = 0; i < d->nSec && n < 2; i++) {
+    const fci_section *s = &d->sec[i];
+    double tol = 1e-12 * (fabs(s->x0) + fabs(s->x1));
+    if (x < s->x0 - tol || x > s->x1 + tol) continue;
+    double len = s->x1 - s->x0, u = fmin(1.0, fmax(0.0, (x - s->x0) / len));
+    sec[n] = s;
+    shape[n][0] = s->w0 + u * (s->w1 - s->w0);
+    shape[n][1] = s->h0 + u * (s->h1 - s->h0);
+    shape[n][2] = (s->w1 - s->w0) / len;
+    shape[n][3] = (s->h1 - s->h0) / len;
+    n++;
   }
+  return n;
 }
 
 static int line_alloc(fci_line *L, int n, int np)
@@ -112,20 +122,29 @@ static double simpson_w(int i, int m)
 
 static void fill_node(const fc_valve_design *d, fci_line *L, int j)
 {
-  int m = d->nPath;
-  double w, h, dw, dh, drho = d->rho_ff - d->rho_carrier, mean = 0.0;
-  fci_design_shape(d, L->x[j], &w, &h, &dw, &dh);
-  for (int iy = 0; iy < m; iy++)
-    for (int iz = 0; iz < m; iz++) {
-      int p = iy * m + iz;
-      double r[3] = {L->x[j], 0.5 * w * L->py[p], h * L->pz[p]}, B[3];
-      fc_valve_field(d, r, B);
-      double psi = fci_ferro_pressure(&d->ff, B) - drho * FCI_GN * r[2];
-      L->ppath[(size_t)p * (size_t)L->n + (size_t)j] = psi;
-      mean += simpson_w(iy, m) * simpson_w(iz, m) * psi;
+  const fci_section *sec[2];
+  double shape[2][4], drho = d->rho_ff - d->rho_carrier, mean = 0.0;
+  int m = d->nPath, ns = node_shapes(d, L->x[j], sec, shape);
+  for (int p = 0; p < L->np; p++) L->ppath[(size_t)p * (size_t)L->n + (size_t)j] = 0.0;
+  for (int k = 0; k < 3; k++) L->c1[k][j] = L->c2[k][j] = 0.0;
+  for (int s = 0; s < ns; s++) {
+    for (int iy = 0; iy < m; iy++)
+      for (int iz = 0; iz < m; iz++) {
+        int p = iy * m + iz;
+        double r[3] = {L->x[j], 0.5 * shape[s][0] * L->py[p], shape[s][1] * L->pz[p]}, B[3];
+        fc_valve_field(d, r, B);
+        double psi = (fci_ferro_pressure(&d->ff, B) - drho * FCI_GN * r[2]) / ns;
+        L->ppath[(size_t)p * (size_t)L->n + (size_t)j] += psi;
+        mean += simpson_w(iy, m) * simpson_w(iz, m) * psi;
+      }
+    double c = 0.5 * (cos(sec[s]->th_rec) + cos(sec[s]->th_adv));
+    double th[3] = {sec[s]->th_rec, sec[s]->th_adv, acos(c)};
+    for (int k = 0; k < 3; k++) {
+      L->c1[k][j] += cap_at(d, shape[s], th[k], +1) / ns;
+      L->c2[k][j] += cap_at(d, shape[s], th[k], -1) / ns;
     }
+  }
   L->pbar[j] = mean;
-  fill_caps(d, L, j);
 }
 
 int fci_line_build(const fc_valve_design *d, fci_line *L, fc_error *err)

@@ -10,6 +10,7 @@
 #define FERROCIRC_VALVE_INT_H
 
 #include <stddef.h>
+#include <stdio.h>
 
 #include "ferrocirc/error.h"
 #include "ferrocirc/units.h"
@@ -162,5 +163,15 @@ typedef struct fci_dir_result {
 int fci_statics_crack(const fci_line *L, double volume, fci_dir_result *r, fc_error *err);
 /* Push towards +x of the line: crack, reseat and blowout. FC_ESOLVE if no rest position. */
 int fci_statics_push(const fci_line *L, double volume, fci_dir_result *r, fc_error *err);
+
+/* ---- Command-line output (valve_report.c) ---- */
+FILE *fci_atomic_open(const char *target, char *tmp, size_t ntmp, fc_error *err);
+int   fci_atomic_close(FILE *f, const char *tmp, const char *target, fc_error *err);
+void  fci_report_text(FILE *out, const fc_valve_design *d, const char *file,
+                      const fc_valve_pressures *p, const char *unit, double k);
+void  fci_report_json(FILE *out, const fc_valve_design *d, const fc_valve_pressures *p);
+void  fci_profile_csv(FILE *out, const fc_valve_profile_point *pt, size_t n);
+void  fci_vary_header(FILE *out, const char *key, const char *vunit, const char *unit);
+void  fci_vary_row(FILE *out, double v, const fc_valve_pressures *p, double k, int ok);
 
 #endif
