@@ -88,7 +88,7 @@ static int resistive(const fc_net *net, const fc_elem *e)
 static int check_determined(fci_sys *s, fc_error *err)
 {
   fc_net *net = s->net;
-  int *adjp, *adj, *fill, *queue, rc = FC_OK, head = 0, tail = 0;
+  int *adjp = NULL, *adj = NULL, *fill = NULL, *queue = NULL, rc = FC_OK, head = 0, tail = 0;
   if (!NEW(adjp, s->nN + 1) || !NEW(adj, 2 * s->nE) || !NEW(fill, s->nN) || !NEW(queue, s->nN)) {
     rc = fc_fail(err, FC_ENOMEM, NULL, "out of memory");
     goto done;

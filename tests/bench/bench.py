@@ -167,6 +167,11 @@ def main(argv):
         out.write("\nfitted cost exponent (wall ~ N^p, least squares over the %d sizes with "
                   "wall > 0.05 s): p = %.3f; target p <= 1.1: %s\n"
                   % (k, p, "met" if p <= 1.1 else "MISSED"))
+    for r0, r1 in zip(rows, rows[1:]):
+        out.write("  local exponent N=%d..%d: wall %.3f, per step %.3f\n" % (
+            r0["n"], r1["n"], math.log(r1["wall"] / r0["wall"]) / math.log(r1["n"] / r0["n"]),
+            math.log((r1["wall"] / r1["solver"]["steps"]) / (r0["wall"] / r0["solver"]["steps"]))
+            / math.log(r1["n"] / r0["n"])))
     print_csv_table(rows, out)
     if a.json:
         with open(a.json, "w") as f:
