@@ -128,7 +128,7 @@ int fci_statics_crack(const fci_line *L, double volume, fci_dir_result *r, fc_er
       xpk = xt;
     }
   }
-  double l2, xb, xc;
+  double l2 = 0.0, xb = 0.0, xc = 0.0;
   int rc = solve_l2(L, lam, volume, pmin - 1.0, pmax + 1.0, &l2, &xb, &xc, err);
   if (rc) return rc;
   double base = lam - l2;
