@@ -158,10 +158,11 @@ int fci_net_parse_sim(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc_
   if (j && (rc = fci_check_keys(j, sim_keys, NULL, P, err))) return rc;
   if ((rc = parse_times(net, j, ctx, err))) return rc;
   /* Tolerance defaults: 1e-6 relative; 1 mPa absolute is 1e-5 of a typical 1 mbar signal;
-   * 1 pL and 1e-15 m^3/s (0.06 nL/min) are far below microfluidic volumes and flows. */
+   * 1e-15 m^3/s (0.06 nL/min) is far below microfluidic flows; volumes integrate per-cycle
+   * totals down to picolitres, so their floor is 1 fL (1e-18 m^3). */
   if ((rc = fci_get_quantity(j, "rel_tol", FC_DIM_NONE, 0, 1e-6, FCI_POS, &s->rel_tol, P, ctx, err)) ||
       (rc = fci_get_quantity(j, "abs_tol", FC_DIM_PRESSURE, 0, 1e-3, FCI_POS, &s->abs_tol_p, P, ctx, err)) ||
-      (rc = fci_get_quantity(j, "abs_tol_volume", FC_DIM_VOLUME, 0, 1e-15, FCI_POS, &s->abs_tol_v, P, ctx, err)) ||
+      (rc = fci_get_quantity(j, "abs_tol_volume", FC_DIM_VOLUME, 0, 1e-18, FCI_POS, &s->abs_tol_v, P, ctx, err)) ||
       (rc = fci_get_quantity(j, "abs_tol_flow", FC_DIM_FLOW, 0, 1e-15, FCI_POS, &s->abs_tol_q, P, ctx, err)) ||
       (rc = fci_get_quantity(j, "max_step", FC_DIM_TIME, 0, 0, FCI_NONNEG, &s->max_step, P, ctx, err)))
     return rc;

@@ -46,6 +46,7 @@ static int f_root(sunrealtype t, N_Vector y, sunrealtype *g, void *ud)
   const double *x = R->sys->nx ? NV_DATA_S(y) : NULL;
   if (fci_sys_eval(R->sys, t, x)) return -1;
   fci_sys_roots(R->sys, t, x, g);
+  fci_run_sign_roots(R, g + R->sys->nroot);
   return 0;
 }
 
@@ -78,6 +79,8 @@ typedef struct cv {
   void *mem;
   SUNContext ctx;
   N_Vector y, yq, ytmp, ewt, ele;
+  double *qacc, *qtot;  /* quadratures folded in at restarts, and the running totals */
+  N_Vector qat;         /* quadrature absolute tolerances */
   SUNLinearSolver ls;
 } cv;
 
@@ -85,9 +88,27 @@ static void cv_free(cv *c)
 {
   if (c->mem) CVodeFree(&c->mem);
   if (c->ls) SUNLinSolFree(c->ls);
-  N_Vector v[] = {c->y, c->yq, c->ytmp, c->ewt, c->ele};
+  N_Vector v[] = {c->y, c->yq, c->ytmp, c->ewt, c->ele, c->qat};
   for (size_t i = 0; i < sizeof v / sizeof v[0]; i++) if (v[i]) N_VDestroy(v[i]);
+  fc_free(c->qacc);
+  fc_free(c->qtot);
   if (c->ctx) SUNContext_Free(&c->ctx);
+}
+
+/* Absolute tolerances of the quadratures: volumes abs_tol_volume; the pressure integrals
+ * (Pa s, for time means) abs_tol times the cycle (or sample interval), so that a mean pressure
+ * is good to about abs_tol. */
+static N_Vector qatol(cv *c, const fci_run *R)
+{
+  const fci_sim_opts *o = &R->net->sim;
+  double T = o->cycle_period > 0 ? o->cycle_period : o->sample_interval;
+  N_Vector a = N_VNew_Serial(R->nq, c->ctx);
+  if (!a) return NULL;
+  for (int k = 0; k < R->nq; k++)
+    NV_Ith_S(a, k) = (k >= R->qp && k < R->qs) ? o->abs_tol_p * T : o->abs_tol_v;
+  if (c->qat) N_VDestroy(c->qat);
+  c->qat = a;
+  return a;
 }
 
 static int cv_init(cv *c, fci_run *R, fc_error *err)
@@ -102,13 +123,18 @@ static int cv_init(cv *c, fci_run *R, fc_error *err)
   c->ele = N_VNew_Serial(n, c->ctx);
   c->yq = N_VNew_Serial(R->nq ? R->nq : 1, c->ctx);
   c->mem = CVodeCreate(CV_BDF, c->ctx);
-  if (!c->y || !c->ytmp || !c->yq || !c->ewt || !c->ele || !c->mem)
+  c->qacc = fc_calloc((size_t)R->nq + 1, sizeof *c->qacc);
+  c->qtot = fc_calloc((size_t)R->nq + 1, sizeof *c->qtot);
+  if (!c->y || !c->ytmp || !c->yq || !c->ewt || !c->ele || !c->mem || !c->qacc || !c->qtot)
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory creating the integrator");
   N_VConst(0, c->y);
   if (s->nx) memcpy(NV_DATA_S(c->y), R->x0, (size_t)s->nx * sizeof(double));
   N_VConst(0, c->yq);
+  /* Store states are volumes: their absolute tolerance is the pressure tolerance times the
+   * compliance at the start, so abs_tol keeps its meaning as a pressure. */
   N_Vector atol = c->ytmp;
-  for (int k = 0; k < n; k++) NV_Ith_S(atol, k) = k < s->ns ? o->abs_tol_p : o->abs_tol_q;
+  if (s->nx && fci_sys_eval(s, 0.0, R->x0)) return fc_fail(err, FC_ESOLVE, NULL, "initial state not solvable");
+  for (int k = 0; k < n; k++) NV_Ith_S(atol, k) = k < s->ns ? o->abs_tol_p * s->Csum[k] : o->abs_tol_q;
   c->ls = SUNLinSol_SPGMR(c->y, SUN_PREC_RIGHT, 5, c->ctx);
   if (!c->ls || CVodeInit(c->mem, f_rhs, 0.0, c->y) || CVodeSVtolerances(c->mem, o->rel_tol, atol) ||
       CVodeSetUserData(c->mem, R) || CVodeSetErrHandlerFn(c->mem, on_cvode_error, R) ||
@@ -117,21 +143,29 @@ static int cv_init(cv *c, fci_run *R, fc_error *err)
       CVodeSetMaxNumSteps(c->mem, 1000000) ||
       (o->max_step > 0 && CVodeSetMaxStep(c->mem, o->max_step)) ||
       (R->nq && (CVodeQuadInit(c->mem, f_quad, c->yq) ||
-                 CVodeQuadSStolerances(c->mem, o->rel_tol, o->abs_tol_v))) ||
-      (s->nroot && CVodeRootInit(c->mem, s->nroot, f_root)))
+                 CVodeQuadSVtolerances(c->mem, o->rel_tol, qatol(c, R)) ||
+                 CVodeSetQuadErrCon(c->mem, SUNTRUE))) ||
+      (R->nroot_all && CVodeRootInit(c->mem, R->nroot_all, f_root)))
     return fc_fail(err, FC_ESOLVE, NULL, "integrator set-up failed: %s", R->cv_msg);
   return FC_OK;
 }
 
 static void collect_stats(cv *c, fc_sim_stats *st);
 
-/* CVodeReInit zeroes CVODE's counters, so they are added up before every restart. */
+/* CVodeReInit zeroes CVODE's counters, so they are added up before every restart. The
+ * quadratures restart from zero too, their values folded into qacc: their relative tolerance
+ * then applies to the volume since the last restart (at most one cycle), not to a running
+ * total that grows with the number of cycles. */
 static int restart(cv *c, fci_run *R, double t)
 {
   R->res->stats.restarts++;
   collect_stats(c, &R->res->stats);
   if (CVodeReInit(c->mem, t, c->y)) return FC_ESOLVE;
-  if (R->nq && CVodeQuadReInit(c->mem, c->yq)) return FC_ESOLVE;
+  if (R->nq) {
+    memcpy(c->qacc, c->qtot, (size_t)R->nq * sizeof *c->qacc);
+    N_VConst(0, c->yq);
+    if (CVodeQuadReInit(c->mem, c->yq)) return FC_ESOLVE;
+  }
   return FC_OK;
 }
 
@@ -167,7 +201,7 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
 {
   const double tend = R->net->sim.duration;
   double t = 0;
-  int rc = fci_run_begin(R, NV_DATA_S(c->yq), err);
+  int rc = fci_run_begin(R, c->qtot, err);
   while (!rc && !R->done && t < tend * (1 - 1e-15)) {
     if (stop_requested) { rc = fc_fail(err, FC_EINTR, NULL, "interrupted at t = %.9g s", t); break; }
     double tstop = fci_run_next_stop(R, t);
@@ -181,13 +215,14 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
       break;
     }
     if (R->nq && CVodeGetQuad(c->mem, &t, c->yq)) { rc = FC_ESOLVE; break; }
+    for (int k = 0; k < R->nq; k++) c->qtot[k] = c->qacc[k] + NV_Ith_S(c->yq, k);
     double ts;
     while (!rc && fci_run_pending_sample(R, t, &ts)) {
       if (CVodeGetDky(c->mem, ts, 0, c->ytmp)) { rc = fc_fail(err, FC_ESOLVE, NULL, "interpolation at t = %.9g s failed", ts); break; }
       rc = fci_run_sample(R, ts, NV_DATA_S(c->ytmp), err);
     }
     if (rc) break;
-    rc = fci_run_step_end(R, t, NV_DATA_S(c->y), NV_DATA_S(c->yq), err);
+    rc = fci_run_step_end(R, t, NV_DATA_S(c->y), c->qtot, err);
     if (rc) break;
     int changed = 0;
     if (flag == CV_ROOT_RETURN) {
@@ -207,7 +242,7 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
   }
   collect_stats(c, &R->res->stats);
   if (!rc || rc == FC_EINTR) {
-    int rc2 = fci_run_finish(R, t, NV_DATA_S(c->y), NV_DATA_S(c->yq), err);
+    int rc2 = fci_run_finish(R, t, NV_DATA_S(c->y), c->qtot, err);
     if (!rc) rc = rc2;
   }
   return rc;

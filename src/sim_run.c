@@ -41,7 +41,7 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
   fci_sys *s = R->sys;
   int E = net->nElem;
   if (!NEW(R->qoff, E) || !NEW(R->qbuf, E) || !NEW(R->modes, E) || !NEW(R->corner_el, E) ||
-      !NEW(R->rootsfound, s->nroot) || !NEW(R->x0, s->nx) || !NEW(R->v0, s->ns) || alloc_result(R) ||
+      !NEW(R->sign_el, E) || !NEW(R->x0, s->nx) || !NEW(R->v0, s->ns) || alloc_result(R) ||
       fci_cycles_init(R))
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
   for (int i = 0; i < E; i++) {
@@ -50,6 +50,19 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
     if (e->nTerm == 2) R->nq += 2;
     if (e->type->xCorner) R->corner_el[R->ncorner++] = i;
   }
+  /* Backflow integrals max(-q, 0) have a kink where q changes sign; for the elements whose
+   * backflow is reported cycle by cycle (valves, report.elements, culture regions) and for
+   * sources, the sign change is a root, so that no step straddles it. Elsewhere the kink is
+   * integrated under the quadrature error control alone (locating every sign change of a large
+   * tree would stop the integrator far more often than the physics needs). */
+  for (int i = 0; i < E; i++) {
+    const fc_elem *e = &net->elem[i];
+    int tracked = e->nRoot > 0 || e->culture || e->type->xCorner;
+    for (int k = 0; !tracked && k < net->report.nTrack; k++) tracked = net->report.track[k] == i;
+    if (e->nTerm == 2 && e->role == FC_ROLE_FLOW && tracked) R->sign_el[R->nsign++] = i;
+  }
+  R->nroot_all = s->nroot + R->nsign;
+  if (!NEW(R->rootsfound, R->nroot_all)) return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
   R->qp = R->nq;
   R->nq += net->nNode;
   R->qs = R->nq;
@@ -69,7 +82,7 @@ void fci_run_free(fci_run *R)
   fci_cycles_free(R);
   fc_sim_result_free(R->res);
   fc_free(R->qoff); fc_free(R->qbuf); fc_free(R->modes); fc_free(R->corner_el);
-  fc_free(R->rootsfound); fc_free(R->x0); fc_free(R->v0); fc_free(R->vq_cycle);
+  fc_free(R->rootsfound); fc_free(R->sign_el); fc_free(R->x0); fc_free(R->v0); fc_free(R->vq_cycle);
   memset(R, 0, sizeof *R);
 }
 
@@ -128,7 +141,11 @@ static int emit(fci_run *R, double t, fc_error *err)
 
 static int eval_or_fail(fci_run *R, double t, const double *x, fc_error *err)
 {
-  if (fci_sys_eval(R->sys, t, R->sys->nx ? x : NULL))
+  int e = fci_sys_eval(R->sys, t, R->sys->nx ? x : NULL);
+  if (e == 2)
+    return fc_fail(err, FC_ESOLVE, NULL, "a compliance's stored volume has no pressure at t = "
+                   "%.9g s (a gas bubble compressed beyond its range?)", t);
+  if (e)
     return fc_fail(err, FC_ESOLVE, NULL, "the conservation equations at the algebraic nodes are "
                    "singular at t = %.9g s (a part of the network is cut off by closed valves "
                    "with zero leak?)", t);
@@ -139,8 +156,7 @@ int fci_run_begin(fci_run *R, const double *yq, fc_error *err)
 {
   int rc = eval_or_fail(R, 0.0, R->x0, err);
   if (rc) return rc;
-  for (int k = 0; k < R->sys->ns; k++)
-    R->v0[k] = fci_sys_store_volume(R->sys, 0.0, k, R->x0[k]);
+  for (int k = 0; k < R->sys->ns; k++) R->v0[k] = R->x0[k];
   memcpy(R->vq_cycle, yq, (size_t)R->nq * sizeof *yq);
   extremes(R);
   R->next_sample = 1;
@@ -203,6 +219,7 @@ int fci_run_events(fci_run *R, double t, const double *x, const int *found, int 
   int rc = eval_or_fail(R, t, x, err);
   if (rc) return rc;
   *changed = 0;
+  for (int k = 0; k < R->nsign; k++) *changed |= found[s->nroot + k] != 0; /* restart only */
   for (int i = 0; i < s->nE; i++) {
     fc_elem *e = &R->net->elem[i];
     if (!e->nRoot || !e->type->xEvent) continue;
@@ -241,7 +258,7 @@ int fci_run_finish(fci_run *R, double t, const double *x, const double *yq, fc_e
   for (int n = 0; n < s->nN; n++) r->p_mean[n] = t > 0 ? yq[R->qp + n] / T : s->p[n];
   for (int k = 0; k < s->ns; k++) {
     int n = s->xnode[k];
-    r->v_stored[n] = fci_sys_store_volume(s, t, k, x[k]) - R->v0[k];
+    r->v_stored[n] = x[k] - R->v0[k];
     r->v_inflow[n] = yq[R->qs + k];
   }
   return FC_OK;
@@ -279,4 +296,9 @@ int fci_run_release(fci_run *R, double t, const double *x, int *changed, fc_erro
       rc = fc_fail(err, FC_EIO, NULL, "writing the event at t = %.9g s failed", t);
   }
   return rc;
+}
+
+void fci_run_sign_roots(const fci_run *R, double *g)
+{
+  for (int k = 0; k < R->nsign; k++) g[k] = R->sys->q[R->sign_el[k]];
 }

@@ -36,7 +36,13 @@ typedef struct fci_run {
   double *win_start;         /* chatter window start per element */
   int *win_count;            /* switches in the window */
   int done;                  /* until_periodic reached: stop */
+  int *sign_el;              /* elements whose flow sign is a root function (nsign) */
+  int nsign;
+  int nroot_all;             /* element roots + flow-sign roots */
 } fci_run;
+
+/* Flow-sign roots, after the elements' own: g[k] = q of sign_el[k]. */
+void fci_run_sign_roots(const fci_run *R, double *g);
 
 /* Cycle accounting (src/sim_cycles.c). */
 int fci_cycles_init(fci_run *R);

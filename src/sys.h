@@ -3,9 +3,12 @@
  * Unknowns. Every node is one of
  *   FIXED  pressure imposed: by a reservoir, or through an ideal pressure source (LINK) from
  *          another fixed node;
- *   STORE  has compliance: its pressure is an ODE state, C(p) dp/dt = sum of inflows + qext;
+ *   STORE  has compliance: its stored volume V is an ODE state, dV/dt = sum of inflows, and its
+ *          pressure solves V(p, t) = V (constant C: p = V/C; a driven membrane: V = C (p - p_back));
  *   ALG    neither: its pressure is algebraic, fixed by conservation sum q_in = 0.
- * The ODE state is x = [pressures of STORE nodes, own states of elements (inertance flows)].
+ * The ODE state is x = [volumes of STORE nodes, own states of elements (inertance flows)]. With
+ * volumes as states, conservation is a linear invariant that BDF keeps, for nonlinear (gas)
+ * and time-driven stores too; pressures would keep it only for constant compliances.
  * ALG pressures z are eliminated exactly: every right-hand side solves G z = -F(z0) (Newton;
  * one step when every element is affine in pressure, as all built-in ones are within a mode)
  * with a KLU factorisation of G that is reused until a mode switch changes it. No parasitic
@@ -14,10 +17,10 @@
  * Newton matrix. CVODE needs solves with I - gamma J, J = df/dx including dz/dx. Forming J
  * would fill in (a tree's leaves all couple through its junctions), so instead the sparse
  * augmented system
- *     [ diag(C) - gamma dQ/dx + gamma C'Q/C   -gamma dQ/dz ] [dx]   [C r]
- *     [ dF/dx                                  dF/dz       ] [dz] = [ 0 ]
- * (store rows scaled by C; own-state rows are I - gamma J_own) is factored with KLU; its Schur
- * complement on dx is exactly C (I - gamma J). It serves as an exact preconditioner for CVODE's
+ *     [ diag(C) - gamma dQ/dp   -gamma dQ/dz ] [dp]   [r]
+ *     [ dF/dp                    dF/dz       ] [dz] = [0]
+ * in pressure changes dp (dV = C dp; own-state rows are I - gamma J_own) is factored with KLU;
+ * eliminating dz gives exactly (I - gamma J) dV = r. It serves as an exact preconditioner for CVODE's
  * GMRES, which therefore converges in one or two iterations, at a cost linear in network size. */
 #ifndef FERROCIRC_SYS_H
 #define FERROCIRC_SYS_H
@@ -89,7 +92,8 @@ void fci_sys_free(fci_sys *s);
 void fci_sys_invalidate(fci_sys *s);
 
 /* Evaluate every node pressure, element flow and node inflow at (t, x); x may be NULL when
- * nx == 0. The last evaluation is cached: CVODE asks for the same point from the right-hand
+ * nx == 0. Returns 0; 1 if the algebraic solve failed (singular); 2 if a store's volume has no
+ * pressure (a gas bubble compressed beyond its range). The last evaluation is cached: CVODE asks for the same point from the right-hand
  * side, the quadratures and the step bookkeeping. Anything that changes a mode must call
  * fci_sys_invalidate. Returns 0, or >0 if the algebraic solve failed (singular: recoverable by a smaller
  * step only if caused by a transient state; the caller decides). */

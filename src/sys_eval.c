@@ -98,6 +98,37 @@ void fci_sys_invalidate(fci_sys *s)
   s->gdirty = 1;
 }
 
+/* Pressure of store k holding volume V (relative to 0 gauge, or to the backing pressure of a
+ * driven membrane): Newton on sum_e V_e(t, p) = V from the last pressure; one step is exact for
+ * constant compliances, a few for a gas bubble. Also leaves C(p) in Csum[k]. */
+static int store_pressure(fci_sys *s, double t, int k, double V)
+{
+  double *p = &s->p[s->xnode[k]], last = INFINITY;
+  for (int it = 0; it < NEWTON_MAX; it++) {
+    double C = 0, dC = 0, v = 0;
+    for (int j = s->store_ptr[k]; j < s->store_ptr[k + 1]; j++) {
+      const fc_elem *e = &s->net->elem[s->store_el[j]];
+      double c, dc, q;
+      e->type->xStore(e, t, *p, &c, &dc, &q);
+      v += e->type->xVolume(e, t, *p);
+      C += c;
+      dC += dc;
+    }
+    if (!(C > 0) || !isfinite(v)) return 1;
+    s->Csum[k] = C;
+    s->dCsum[k] = dC;
+    double dp = (V - v) / C;
+    /* Constant compliance: one step is exact. Otherwise Newton converges quadratically until
+     * rounding of V (relative to V/C, which can be far above p) stops the decrease. */
+    if (dC == 0) { *p += dp; return 0; }
+    if (fabs(dp) >= last) return 0;
+    *p += dp;
+    if (fabs(dp) <= 1e-15 * (fabs(*p) + fabs(V / C))) return 0;
+    last = fabs(dp);
+  }
+  return 1;
+}
+
 int fci_sys_eval(fci_sys *s, double t, const double *x)
 {
   s->nEval++;
@@ -107,7 +138,8 @@ int fci_sys_eval(fci_sys *s, double t, const double *x)
   }
   s->cached = 0;
   fixed_pressures(s, t);
-  for (int k = 0; k < s->ns; k++) s->p[s->xnode[k]] = x[k];
+  for (int k = 0; k < s->ns; k++)
+    if (store_pressure(s, t, k, x[k])) return 2;
   flows(s, t, x);
   if (s->nz > 0 && solve_alg(s, t, x)) return 1;
   link_flows(s);
@@ -117,34 +149,11 @@ int fci_sys_eval(fci_sys *s, double t, const double *x)
   return 0;
 }
 
-static void store_sums(fci_sys *s, double t, double *Cs, double *dCs, double *qext)
-{
-  const fc_net *net = s->net;
-  for (int k = 0; k < s->ns; k++) {
-    double C = 0, dC = 0, qe = 0, p = s->p[s->xnode[k]];
-    for (int j = s->store_ptr[k]; j < s->store_ptr[k + 1]; j++) {
-      const fc_elem *e = &net->elem[s->store_el[j]];
-      double c, dc, q;
-      e->type->xStore(e, t, p, &c, &dc, &q);
-      C += c;
-      dC += dc;
-      qe += q;
-    }
-    Cs[k] = C;
-    if (dCs) dCs[k] = dC;
-    if (qext) qext[k] = qe;
-  }
-}
-
 int fci_sys_rhs_from_eval(fci_sys *s, double t, const double *x, double *xdot)
 {
   const fc_net *net = s->net;
   double J[FCI_MAX_OWN * (2 + FCI_MAX_OWN)];
-  store_sums(s, t, s->Csum, NULL, xdot);
-  for (int k = 0; k < s->ns; k++) {
-    if (!(s->Csum[k] > 0)) return 1; /* a gas bubble compressed to nothing: retry smaller */
-    xdot[k] = (s->qin[s->xnode[k]] + xdot[k]) / s->Csum[k];
-  }
+  for (int k = 0; k < s->ns; k++) xdot[k] = s->qin[s->xnode[k]]; /* dV/dt = sum of inflows */
   for (int i = 0; i < s->nE; i++) {
     const fc_elem *e = &net->elem[i];
     if (!e->nState) continue;
@@ -168,7 +177,7 @@ void fci_sys_roots(fci_sys *s, double t, const double *x, double *g)
 
 void fci_sys_rest(const fci_sys *s, double *x)
 {
-  for (int k = 0; k < s->nx; k++) x[k] = 0;
+  for (int k = 0; k < s->nx; k++) x[k] = k < s->ns ? fci_sys_store_volume(s, 0.0, k, 0.0) : 0.0;
 }
 
 double fci_sys_store_volume(const fci_sys *s, double t, int k, double p)
@@ -177,12 +186,7 @@ double fci_sys_store_volume(const fci_sys *s, double t, int k, double p)
   double v = 0;
   for (int j = s->store_ptr[k]; j < s->store_ptr[k + 1]; j++) {
     const fc_elem *e = &net->elem[s->store_el[j]];
-    if (e->type->xVolume) v += e->type->xVolume(e, t, p);
-    else {
-      double c, dc, q;
-      e->type->xStore(e, t, p, &c, &dc, &q);
-      v += c * p;
-    }
+    v += e->type->xVolume(e, t, p);
   }
   return v;
 }
@@ -197,11 +201,7 @@ static void stamp_aug(fci_sys *s, double t, const double *x, double gamma, int s
   int k = 0;
   memset(A, 0, (size_t)s->A.nnz * sizeof *A);
   for (int r = 0; r < s->nx; r++, k++) {
-    if (r < s->ns) {
-      int n = s->xnode[r];
-      double qe = s->abuf[r]; /* qext, left there by fci_sys_psetup */
-      A[s->aslot[k]] += steady ? 0 : s->Cpre[r] + gamma * s->dCsum[r] / s->Cpre[r] * (s->qin[n] + qe);
-    } else A[s->aslot[k]] += steady ? 0 : 1;
+    A[s->aslot[k]] += steady ? 0 : r < s->ns ? s->Cpre[r] : 1;
   }
   for (int i = 0; i < s->nE; i++) {
     const fc_elem *e = &net->elem[i];
@@ -228,7 +228,7 @@ static void stamp_aug(fci_sys *s, double t, const double *x, double gamma, int s
 static int setup(fci_sys *s, double t, const double *x, double gamma, int steady)
 {
   if (fci_sys_eval(s, t, x)) return 1;
-  store_sums(s, t, s->Cpre, s->dCsum, s->abuf);
+  memcpy(s->Cpre, s->Csum, (size_t)s->ns * sizeof *s->Cpre);
   stamp_aug(s, t, x, gamma, steady);
   s->nAfact++;
   int rc = fci_klu_factor(&s->ak, &s->A, s->afactored);
@@ -246,10 +246,11 @@ int fci_sys_psolve(fci_sys *s, double *r)
 {
   if (s->nx == 0) return 0;
   double *b = s->abuf;
-  for (int k = 0; k < s->nx; k++) b[k] = k < s->ns ? s->Cpre[k] * r[k] : r[k];
+  memcpy(b, r, (size_t)s->nx * sizeof *r);
   for (int i = 0; i < s->nz; i++) b[s->nx + i] = 0;
   if (fci_klu_solve(&s->ak, &s->A, b)) return 1;
-  memcpy(r, b, (size_t)s->nx * sizeof *r);
+  /* Store rows were solved for pressure changes; the states are volumes: dV = C dp. */
+  for (int k = 0; k < s->nx; k++) r[k] = k < s->ns ? s->Cpre[k] * b[k] : b[k];
   return 0;
 }
 
@@ -262,9 +263,9 @@ int fci_sys_steady(fci_sys *s, double t, double *x, fc_error *err)
                      "(a part of the network with compliance has no path to a reservoir, or a "
                      "loop has no resistance); use \"initial\": \"rest\"");
     double *b = s->abuf, worst = 0;
-    /* Residual R = [-(qin + qext) at stores; -xdot_own; qin at ALG (already 0)]; solve A d = -R. */
-    store_sums(s, t, s->Csum, NULL, b);
-    for (int k = 0; k < s->ns; k++) b[k] = s->qin[s->xnode[k]] + b[k];
+    /* Residual R = [-qin at stores; -xdot_own; qin at ALG (already 0)]; solve A d = -R, where the
+     * store unknowns are pressure changes (sources frozen at t: a drive's rate does not count). */
+    for (int k = 0; k < s->ns; k++) b[k] = s->qin[s->xnode[k]];
     for (int i = 0; i < s->nE; i++) {
       const fc_elem *e = &s->net->elem[i];
       if (!e->nState) continue;
@@ -275,9 +276,10 @@ int fci_sys_steady(fci_sys *s, double t, double *x, fc_error *err)
     if (fci_klu_solve(&s->ak, &s->A, b))
       return fc_fail(err, FC_ESOLVE, "$.simulation.initial", "steady-state solve failed");
     for (int k = 0; k < s->nx; k++) {
-      x[k] += b[k];
-      double r = fabs(b[k]) / (fabs(x[k]) + (k < s->ns ? s->net->sim.abs_tol_p : s->net->sim.abs_tol_q));
-      if (r > worst) worst = r;
+      double ref = k < s->ns ? fabs(s->p[s->xnode[k]] + b[k]) + s->net->sim.abs_tol_p
+                             : fabs(x[k] + b[k]) + s->net->sim.abs_tol_q;
+      x[k] = k < s->ns ? fci_sys_store_volume(s, t, k, s->p[s->xnode[k]] + b[k]) : x[k] + b[k];
+      if (fabs(b[k]) / ref > worst) worst = fabs(b[k]) / ref;
     }
     if (worst < 1e-12) return fci_sys_eval(s, t, x) ? FC_ESOLVE : FC_OK;
   }

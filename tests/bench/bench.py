@@ -149,17 +149,22 @@ def main(argv):
         return 2
     cycles = int(a.cycles) if a.cycles == int(a.cycles) else a.cycles
     sizes = [int(s) for s in a.sizes.split(",") if s]
-    rows = []
+    rows, failed = [], []
     with tempfile.TemporaryDirectory(prefix="ferrocirc-bench-") as wd:
         for n in sizes:
             sys.stderr.write("bench.py: %s N=%d ...\n" % (a.case, n))
             sys.stderr.flush()
-            rows.append(measure(binary, a.case, n, cycles, a.repeat, n <= a.csv_max, wd,
-                                a.gen_arg))
+            try:
+                rows.append(measure(binary, a.case, n, cycles, a.repeat, n <= a.csv_max, wd,
+                                    a.gen_arg))
+            except (RuntimeError, subprocess.CalledProcessError) as exc:
+                failed.append((n, str(exc)))
     out = sys.stdout
     out.write("case %s (%s), %s pump cycles of 1 s, median of %d runs, no CSV\n\n"
               % (a.case, CASES[a.case][1], cycles, a.repeat))
     print_table(rows, out)
+    for n, why in failed:
+        out.write("| %d | failed: %s |\n" % (n, why.replace("|", "/")))
     p, k = fit_exponent(rows)
     if p is None:
         out.write("\nfitted cost exponent: too few sizes above 0.05 s (%d)\n" % k)
@@ -175,8 +180,8 @@ def main(argv):
     print_csv_table(rows, out)
     if a.json:
         with open(a.json, "w") as f:
-            json.dump({"rows": rows, "exponent": p}, f, indent=1)
-    return 0
+            json.dump({"rows": rows, "exponent": p, "failed": failed}, f, indent=1)
+    return 1 if failed else 0
 
 
 if __name__ == "__main__":
