@@ -3,6 +3,7 @@
 #include <string.h>
 
 #include "cli.h"
+#include "ferrocirc/plot.h"
 #include "ferrocirc/units.h"
 #include "ferrocirc/valve.h"
 #include "net.h"
@@ -15,7 +16,7 @@ static const char usage[] =
   "      [--pressure-unit U] [--flow-unit U] [--keep-partial] [--quiet]\n"
   "                       simulate a network, write the time series and a summary\n"
   "  check NETWORK.json   validate; list nodes, elements, resistances, time constants\n"
-  "  demo [-o demo.csv]   run the built-in organ-on-chip demo network\n"
+  "  demo [-o demo.csv]   run the built-in organ-on-chip demo network (--print shows it)\n"
   "  sweep NETWORK.json --vary PATH=FROM..TO [--steps N] [--vary ...] -o OUT.csv\n"
   "  sweep NETWORK.json --monte-carlo K [--seed S] -o OUT.csv   [--jobs N] [--shard I/N]\n"
   "                       design studies: one row of metrics per point (docs/design-studies.md)\n"
@@ -24,6 +25,12 @@ static const char usage[] =
   "  valve DESIGN.json [--json] [--unit U] [--profile OUT.csv]\n"
   "        [--vary PATH=FROM..TO --steps N -o OUT.csv]\n"
   "                       cracking, reseat and blowout pressures of a ferrofluid valve design\n"
+  "  plot RUN.csv -o OUT.svg [--columns p:NODE,q:ID] [--cycles last:N --period T]\n"
+  "       [--from T0 --to T1] [--title TEXT]\n"
+  "  plot SWEEP.csv --x COLUMN --y COLUMN[,COLUMN] -o OUT.svg   (or a valve --profile CSV)\n"
+  "                       SVG pictures of results\n"
+  "  schematic NETWORK.json -o OUT.dot\n"
+  "                       the circuit as a Graphviz graph (render: dot -Tsvg OUT.dot)\n"
   "Exit status: 0 ok, 1 other failure (I/O), 2 bad input or usage, 3 integrator failure.\n";
 
 int fci_cli_report(const fc_error *err)
@@ -105,6 +112,8 @@ int fci_cli_main(int argc, char **argv)
   if (!strcmp(argv[1], "sweep")) return fci_cli_sweep(argc - 1, argv + 1);
   if (!strcmp(argv[1], "merge")) return fci_cli_merge(argc - 1, argv + 1);
   if (!strcmp(argv[1], "valve")) return fc_valve_cli(argc - 1, argv + 1);
+  if (!strcmp(argv[1], "plot")) return fc_plot_cli(argc - 1, argv + 1);
+  if (!strcmp(argv[1], "schematic")) return fc_schematic_cli(argc - 1, argv + 1);
   fprintf(stderr, "ferrocirc: unknown command \"%s\"\n%s", argv[1], usage);
   return 2;
 }

@@ -170,6 +170,10 @@ int fci_cli_demo(int argc, char **argv)
 {
   run_args a;
   fc_error err = {0};
+  if (argc == 2 && !strcmp(argv[1], "--print")) {
+    fputs(fci_demo_network, stdout);
+    return 0;
+  }
   if (parse_args(argc, argv, &a, 0, &err)) return fci_cli_report(&err);
   if (!a.csv) a.csv = "demo.csv";
   printf("ferrocirc demo: an invented organ-on-chip loop (pulsatile pump, bubble trap, culture\n"

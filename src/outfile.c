@@ -4,6 +4,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include "ferrocirc/alloc.h"
@@ -33,6 +34,10 @@ int fc_outfile_open(const char *path, fc_outfile **out, fc_error *err)
     fc_free(o->tmp); fc_free(o->path); fc_free(o);
     return FC_EIO;
   }
+  /* mkstemp creates mode 0600; outputs are ordinary files, so give them the umask's mode. */
+  mode_t um = umask(0);
+  umask(um);
+  fchmod(fd, 0666 & ~um);
   setvbuf(o->f, NULL, _IOFBF, 1 << 16);
   *out = o;
   return FC_OK;
