@@ -1,5 +1,6 @@
 /* ferrocirc — command-line dispatch and `check`. */
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "cli.h"
@@ -53,28 +54,32 @@ static void check_print(const fc_net *net, const fci_sys *s)
            e->nTerm == 2 ? " -> " : "", e->nTerm == 2 ? net->nodeName[e->node[1]] : "", info.text);
   }
   printf("\nCompliant nodes: C [m^3/Pa], local time constant tau = C / (sum of adjacent conductances)\n");
-  double tmin = 0, tmax = 0;
-  for (int k = 0; k < s->ns; k++) {
+  double tmin = 0, tmax = 0, *G = calloc((size_t)net->nNode, sizeof *G);
+  for (int i = 0; G && i < net->nElem; i++) {
+    const fc_elem *e = &net->elem[i];
+    fci_info info = {0};
+    if (e->nTerm != 2 || !e->type->xInfo) continue;
+    e->type->xInfo(e, &net->fluid, &info);
+    if (info.resistance > 0) {
+      G[e->node[0]] += 1 / info.resistance;
+      G[e->node[1]] += 1 / info.resistance;
+    }
+  }
+  for (int k = 0; G && k < s->ns; k++) {
     int n = s->xnode[k];
-    double C = 0, G = 0;
+    double C = 0;
     for (int j = s->store_ptr[k]; j < s->store_ptr[k + 1]; j++) {
       fci_info info = {0};
       const fc_elem *e = &net->elem[s->store_el[j]];
       if (e->type->xInfo) e->type->xInfo(e, &net->fluid, &info);
       C += info.compliance;
     }
-    for (int i = 0; i < net->nElem; i++) {
-      const fc_elem *e = &net->elem[i];
-      fci_info info = {0};
-      if (e->nTerm != 2 || (e->node[0] != n && e->node[1] != n) || !e->type->xInfo) continue;
-      e->type->xInfo(e, &net->fluid, &info);
-      if (info.resistance > 0) G += 1 / info.resistance;
-    }
-    double tau = G > 0 ? C / G : 0;
+    double tau = G[n] > 0 ? C / G[n] : 0;
     printf("  %-18s C = %.4g  tau = %.4g s\n", net->nodeName[n], C, tau);
     if (tau > 0 && (tmin == 0 || tau < tmin)) tmin = tau;
     if (tau > tmax) tmax = tau;
   }
+  free(G);
   if (tmin > 0) printf("  time constants span %.3g s .. %.3g s (ratio %.3g)\n", tmin, tmax, tmax / tmin);
   printf("\nAlgebraic nodes (no compliance; pressures solved exactly each step):\n ");
   for (int i = 0; i < s->nz; i++) printf(" %s", net->nodeName[s->znode[i]]);

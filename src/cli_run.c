@@ -125,7 +125,7 @@ static int simulate(fc_net *net, const fc_units *u, const run_args *a, fc_error 
     rc = fc_fail(err, FC_EIO, NULL, "writing %s failed", a->events);
   if (!rc) {
     if (io.sink) fc_csv_sink_bind(io.sink, &bound);
-    fc_sim_sink sink = {&io, sample, on_event};
+    fc_sim_sink sink = {&io, io.sink ? sample : NULL, on_event};
     rc = fc_sim_run(net, &sink, &r, err);
     if (rc && rc != FC_EINTR) fc_error_set_file(err, net->file, 0, 0);
   }

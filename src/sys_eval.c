@@ -39,6 +39,24 @@ static void flows(fci_sys *s, double t, const double *x)
   }
 }
 
+/* After an update zbuf of the ALG pressures: q += dq/dpa dpa + dq/dpb dpb, inflows likewise. */
+static void update_flows(fci_sys *s)
+{
+  const fc_net *net = s->net;
+  for (int i = 0; i < s->nE; i++) {
+    const fc_elem *e = &net->elem[i];
+    if (e->role != FC_ROLE_FLOW) continue;
+    int a = e->node[0], b = e->node[1];
+    double da = s->kind[a] == FCI_NODE_ALG ? s->zbuf[s->idx[a]] : 0;
+    double db = s->kind[b] == FCI_NODE_ALG ? s->zbuf[s->idx[b]] : 0;
+    if (da == 0 && db == 0) continue;
+    double dq = s->dqa[i] * da + s->dqb[i] * db;
+    s->q[i] += dq;
+    s->qin[a] -= dq;
+    s->qin[b] += dq;
+  }
+}
+
 /* Conservation F_i = qin at each ALG node; dF/dz from the element partials. */
 static int assemble_G(fci_sys *s)
 {
@@ -70,8 +88,14 @@ static int solve_alg(fci_sys *s, double t, const double *x)
       double r = fabs(s->zbuf[i]) / (fabs(*pz) + s->net->sim.abs_tol_p);
       if (r > worst) worst = r;
     }
+    if (!s->nonlinear) {
+      /* Affine elements: the flows follow the pressure update exactly, without a second pass
+       * through every element's law. */
+      update_flows(s);
+      return 0;
+    }
     flows(s, t, x);
-    if (!s->nonlinear || worst < 1e-12) return 0;
+    if (worst < 1e-12) return 0;
   }
   return 1;
 }

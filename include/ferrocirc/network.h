@@ -14,7 +14,7 @@
 typedef struct fc_net fc_net;
 
 #define FC_NET_FORMAT "ferrocirc-network/1"
-#define FC_NET_MAX_FILE_BYTES (16u * 1024u * 1024u) /* larger files are refused, not parsed */
+#define FC_NET_MAX_FILE_BYTES (40u * 1024u * 1024u) /* larger files are refused, not parsed */
 #define FC_NET_MAX_ELEMENTS 1000000                 /* elements per network */
 
 /* Load and validate a network file. `u` is borrowed and must outlive the network. On error
