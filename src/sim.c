@@ -1,9 +1,8 @@
 #define _POSIX_C_SOURCE 200809L
 /* ferrocirc — CVODE driver: the only file that includes SUNDIALS headers.
  *
- * Method: variable-order BDF with Newton iterations; linear systems by GMRES (SPGMR) with the
- * exact sparse preconditioner of sys.h (KLU on the augmented matrix), so GMRES needs one or two
- * iterations and cost per step is linear in network size. Right-hand side returns 0, >0 to ask
+ * Method: variable-order BDF with Newton iterations; linear systems solved directly with the
+ * augmented sparse matrix of sys.h (KLU), so the cost per step is linear in network size. Right-hand side returns 0, >0 to ask
  * for a smaller step, <0 on fatal errors (SUNDIALS convention). Discontinuities: root functions
  * locate mode switches; at each switch, waveform corner and cycle boundary the integrator stops
  * (CVodeSetStopTime) and restarts (CVodeReInit, CVodeQuadReInit), so no step straddles one. */
@@ -12,7 +11,6 @@
 #include <nvector/nvector_serial.h>
 #include <signal.h>
 #include <string.h>
-#include <sunlinsol/sunlinsol_spgmr.h>
 #include <time.h>
 
 #include "ferrocirc/alloc.h"
@@ -50,22 +48,75 @@ static int f_root(sunrealtype t, N_Vector y, sunrealtype *g, void *ud)
   return 0;
 }
 
-static int p_setup(sunrealtype t, N_Vector y, N_Vector fy, sunbooleantype jok,
-                   sunbooleantype *jcur, sunrealtype gamma, void *ud)
+/* The linear solver: CVODE's Newton systems (I - gamma J) dx = r are solved directly with the
+ * augmented sparse matrix of sys.h (KLU), as a SUNDIALS "matrix-embedded" solver: CVODE asks
+ * for a set-up when its heuristics say the matrix is stale, and the solve refactors at the
+ * current iterate whenever gamma has changed since, so every solve is exact for the current
+ * gamma (no GMRES, no difference-quotient Jacobian products). */
+typedef struct ls_ctx {
+  fci_run *R;
+  void *mem;
+  double gamma;    /* gamma of the factorisation in use, 0 = none */
+  long setups;     /* factorisations done */
+} ls_ctx;
+
+static SUNLinearSolver_Type ls_type(SUNLinearSolver S)
 {
-  (void)fy; (void)jok;
-  fci_run *R = ud;
-  *jcur = SUNTRUE;
-  return fci_sys_psetup(R->sys, t, NV_DATA_S(y), gamma) ? 1 : 0;
+  (void)S;
+  return SUNLINEARSOLVER_MATRIX_EMBEDDED;
 }
 
-static int p_solve(sunrealtype t, N_Vector y, N_Vector fy, N_Vector r, N_Vector z,
-                   sunrealtype gamma, sunrealtype delta, int lr, void *ud)
+static int ls_factor(ls_ctx *L)
 {
-  (void)t; (void)y; (void)fy; (void)gamma; (void)delta; (void)lr;
-  fci_run *R = ud;
-  N_VScale(1.0, r, z);
-  return fci_sys_psolve(R->sys, NV_DATA_S(z)) ? 1 : 0;
+  sunrealtype t, g;
+  N_Vector y;
+  if (CVodeGetCurrentTime(L->mem, &t) || CVodeGetCurrentGamma(L->mem, &g) ||
+      CVodeGetCurrentState(L->mem, &y))
+    return -1;
+  L->setups++;
+  if (fci_sys_psetup(L->R->sys, t, NV_DATA_S(y), g)) return 1;
+  L->gamma = g;
+  return 0;
+}
+
+static int ls_setup(SUNLinearSolver S, SUNMatrix A)
+{
+  (void)A;
+  return ls_factor(S->content);
+}
+
+static int ls_solve(SUNLinearSolver S, SUNMatrix A, N_Vector x, N_Vector b, sunrealtype tol)
+{
+  (void)A; (void)tol;
+  ls_ctx *L = S->content;
+  sunrealtype g;
+  if (CVodeGetCurrentGamma(L->mem, &g)) return -1;
+  if (g != L->gamma) {
+    int rc = ls_factor(L);
+    if (rc) return rc;
+  }
+  N_VScale(1.0, b, x);
+  return fci_sys_psolve(L->R->sys, NV_DATA_S(x)) ? 1 : 0;
+}
+
+static int ls_free(SUNLinearSolver S)
+{
+  if (!S) return 0;
+  S->content = NULL;
+  SUNLinSolFreeEmpty(S);
+  return 0;
+}
+
+static SUNLinearSolver ls_new(ls_ctx *L, SUNContext ctx)
+{
+  SUNLinearSolver S = SUNLinSolNewEmpty(ctx);
+  if (!S) return NULL;
+  S->ops->gettype = ls_type;
+  S->ops->setup = ls_setup;
+  S->ops->solve = ls_solve;
+  S->ops->free = ls_free;
+  S->content = L;
+  return S;
 }
 
 static void on_cvode_error(int code, const char *module, const char *fn, char *msg, void *ud)
@@ -82,6 +133,7 @@ typedef struct cv {
   double *qacc, *qtot;  /* quadratures folded in at restarts, and the running totals */
   N_Vector qat;         /* quadrature absolute tolerances */
   SUNLinearSolver ls;
+  ls_ctx lsc;
 } cv;
 
 static void cv_free(cv *c)
@@ -135,11 +187,12 @@ static int cv_init(cv *c, fci_run *R, fc_error *err)
   N_Vector atol = c->ytmp;
   if (s->nx && fci_sys_eval(s, 0.0, R->x0)) return fc_fail(err, FC_ESOLVE, NULL, "initial state not solvable");
   for (int k = 0; k < n; k++) NV_Ith_S(atol, k) = k < s->ns ? o->abs_tol_p * s->Csum[k] : o->abs_tol_q;
-  c->ls = SUNLinSol_SPGMR(c->y, SUN_PREC_RIGHT, 5, c->ctx);
+  c->lsc.R = R;
+  c->lsc.mem = c->mem;
+  c->ls = ls_new(&c->lsc, c->ctx);
   if (!c->ls || CVodeInit(c->mem, f_rhs, 0.0, c->y) || CVodeSVtolerances(c->mem, o->rel_tol, atol) ||
       CVodeSetUserData(c->mem, R) || CVodeSetErrHandlerFn(c->mem, on_cvode_error, R) ||
       CVodeSetLinearSolver(c->mem, c->ls, NULL) ||
-      CVodeSetPreconditioner(c->mem, p_setup, p_solve) ||
       CVodeSetMaxNumSteps(c->mem, 1000000) ||
       (o->max_step > 0 && CVodeSetMaxStep(c->mem, o->max_step)) ||
       (R->nq && (CVodeQuadInit(c->mem, f_quad, c->yq) ||
@@ -189,8 +242,6 @@ static void collect_stats(cv *c, fc_sim_stats *st)
   if (!CVodeGetNumSteps(c->mem, &v)) st->steps += v;
   if (!CVodeGetNumRhsEvals(c->mem, &v)) st->rhs_evals += v;
   if (!CVodeGetNumLinIters(c->mem, &v)) st->lin_iters += v;
-  if (!CVodeGetNumPrecEvals(c->mem, &v)) st->prec_setups += v;
-  if (!CVodeGetNumPrecSolves(c->mem, &v)) st->prec_solves += v;
   if (!CVodeGetNumNonlinSolvIters(c->mem, &v)) st->nonlin_iters += v;
   if (!CVodeGetNumErrTestFails(c->mem, &v)) st->err_test_fails += v;
   if (!CVodeGetNumNonlinSolvConvFails(c->mem, &v)) st->conv_fails += v;
@@ -266,6 +317,7 @@ int fc_sim_run(fc_net *net, const fc_sim_sink *sink, fc_sim_result **out, fc_err
   if (R.res) {
     R.res->stats.wall_seconds = (double)(t1.tv_sec - t0.tv_sec) + 1e-9 * (double)(t1.tv_nsec - t0.tv_nsec);
     R.res->stats.factorizations = R.sys ? R.sys->nGfact + R.sys->nAfact : 0;
+    R.res->stats.prec_setups = c.lsc.setups;
   }
   if (!rc || rc == FC_EINTR) { *out = R.res; R.res = NULL; }
   fci_run_free(&R);

@@ -36,7 +36,7 @@ void fc_summary_print(FILE *f, const fc_net *net, const fc_sim_result *r, const 
             r->p_mean[n] * u->pf, r->p_max[n] * u->pf);
   fci_summary_print_cycles(f, net, r, u);
   const fc_sim_stats *s = &r->stats;
-  fprintf(f, "\nSolver: %ld steps, %ld right-hand sides, %ld preconditioner set-ups, %ld linear "
+  fprintf(f, "\nSolver: %ld steps, %ld right-hand sides, %ld Newton-matrix factorisations, %ld linear "
           "iterations, %ld events, %.3g s wall\n\n", s->steps, s->rhs_evals, s->prec_setups,
           s->lin_iters, s->events, s->wall_seconds);
   fputs(fc_cautions_text, f);

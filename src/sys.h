@@ -20,8 +20,8 @@
  *     [ diag(C) - gamma dQ/dp   -gamma dQ/dz ] [dp]   [r]
  *     [ dF/dp                    dF/dz       ] [dz] = [0]
  * in pressure changes dp (dV = C dp; own-state rows are I - gamma J_own) is factored with KLU;
- * eliminating dz gives exactly (I - gamma J) dV = r. It serves as an exact preconditioner for CVODE's
- * GMRES, which therefore converges in one or two iterations, at a cost linear in network size. */
+ * eliminating dz gives exactly (I - gamma J) dV = r. sim.c hands it to CVODE as a direct linear
+ * solver; its cost is linear in network size. */
 #ifndef FERROCIRC_SYS_H
 #define FERROCIRC_SYS_H
 
@@ -77,7 +77,7 @@ typedef struct fci_sys {
   fci_klu ak;
   int afactored;
   double *abuf;             /* nx + nz */
-  double *Cpre;             /* per store index: compliance at the last preconditioner setup */
+  double *Cpre;             /* per store index: compliance at the last Newton-matrix factorisation */
   long nGfact, nAfact;      /* factorisations done, for statistics */
   double *xlast;            /* nx: state of the last evaluation, for the cache */
   double tlast;             /* its time */
@@ -100,7 +100,7 @@ void fci_sys_invalidate(fci_sys *s);
 int fci_sys_eval(fci_sys *s, double t, const double *x);
 /* After fci_sys_eval: f = dx/dt into xdot (length nx). */
 int fci_sys_rhs_from_eval(fci_sys *s, double t, const double *x, double *xdot);
-/* Newton preconditioner: assemble and factor at (t, x, gamma); solve in place on r (length nx). */
+/* Newton matrix: assemble and factor at (t, x, gamma); solve in place on r (length nx). */
 int fci_sys_psetup(fci_sys *s, double t, const double *x, double gamma);
 int fci_sys_psolve(fci_sys *s, double *r);
 /* Event functions (length nroot) after fci_sys_eval. */

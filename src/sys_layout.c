@@ -1,7 +1,7 @@
 /* ferrocirc — state layout and sparse patterns of the assembled system (see sys.h).
  *
  * The augmented Newton matrix is stamped by one walk (walk_aug) used twice: once to record the
- * pattern, once per preconditioner setup to add values through the recorded slots. A single
+ * pattern, once per Newton-matrix factorisation to add values through the recorded slots. A single
  * walk keeps pattern and values from ever disagreeing. */
 #include <string.h>
 
