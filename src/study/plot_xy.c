@@ -142,7 +142,7 @@ static int sweep_columns(const fci_csv *c, const fci_plot_args *a, int *xc, int 
 
 int fci_plot_sweep(fci_csv *c, const fci_plot_args *a, fci_figure *fig, fc_error *err)
 {
-  int xc, ys[MAX_Y], ny, rc, done[MAX_Y] = {0};
+  int xc = -1, ys[MAX_Y], ny = 0, rc, done[MAX_Y] = {0};
   table t;
   memset(&t, 0, sizeof t);
   if ((rc = sweep_columns(c, a, &xc, ys, &ny, err)) || (rc = table_read(c, &t, err))) goto out;
