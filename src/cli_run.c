@@ -6,6 +6,8 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <time.h>
+#include <unistd.h>
 
 #include "cli.h"
 #include "ferrocirc/output.h"
@@ -24,7 +26,28 @@ typedef struct run_io {
   fc_csv_sink *sink;
   const fc_net *net;
   double pf;
+  double next_show;   /* wall-clock time of the next progress line [s] */
 } run_io;
+
+static double wall(void)
+{
+  struct timespec t;
+  clock_gettime(CLOCK_MONOTONIC, &t);
+  return (double)t.tv_sec + 1e-9 * (double)t.tv_nsec;
+}
+
+/* A progress line on a terminal, at most five times a second. */
+static void progress(void *ctx, double t)
+{
+  run_io *io = ctx;
+  double now = wall(), T = io->net->sim.cycle_period, end = io->net->sim.duration;
+  if (now < io->next_show && t < end) return;
+  io->next_show = now + 0.2;
+  int nc = (int)(end / T + 0.5), c = (int)(t / T) + 1;
+  if (T > 0) fprintf(stderr, "\rt = %.4g of %.4g s, cycle %d of %d   ", t, end, c < nc ? c : nc, nc);
+  else fprintf(stderr, "\rt = %.4g of %.4g s   ", t, end);
+  if (t >= end * (1 - 1e-12)) fputc('\n', stderr);
+}
 
 static void on_signal(int sig)
 {
@@ -125,7 +148,9 @@ static int simulate(fc_net *net, const fc_units *u, const run_args *a, fc_error 
     rc = fc_fail(err, FC_EIO, NULL, "writing %s failed", a->events);
   if (!rc) {
     if (io.sink) fc_csv_sink_bind(io.sink, &bound);
-    fc_sim_sink sink = {&io, io.sink ? sample : NULL, on_event};
+    int show = !a->quiet && isatty(2);
+    io.next_show = wall() + 0.5; /* short runs print nothing */
+    fc_sim_sink sink = {&io, io.sink ? sample : NULL, on_event, show ? progress : NULL};
     rc = fc_sim_run(net, &sink, &r, err);
     if (rc && rc != FC_EINTR) fc_error_set_file(err, net->file, 0, 0);
   }

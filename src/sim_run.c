@@ -209,6 +209,7 @@ int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, fc
   if (rc) return rc;
   extremes(R);
   fci_cycles_step(R, t, yq);
+  if (R->sink && R->sink->xProgress) R->sink->xProgress(R->sink->ctx, t);
   return FC_OK;
 }
 

@@ -19,6 +19,8 @@ typedef struct fc_sim_sink {
   int (*xSample)(void *ctx, double t, const double *p, const double *q, const int *mode);
   /* Optional: element `elem` switched from mode a to b at t; dp = p(from) - p(to) [Pa]. */
   int (*xEvent)(void *ctx, double t, int elem, int a, int b, double dp);
+  /* Optional: called after every internal step with the time reached (progress display). */
+  void (*xProgress)(void *ctx, double t);
 } fc_sim_sink;
 
 typedef struct fc_sim_stats {
