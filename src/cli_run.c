@@ -43,9 +43,12 @@ static void progress(void *ctx, double t)
   double now = wall(), T = io->net->sim.cycle_period, end = io->net->sim.duration;
   if (now < io->next_show && t < end) return;
   io->next_show = now + 0.2;
-  int nc = (int)(end / T + 0.5), c = (int)(t / T) + 1;
-  if (T > 0) fprintf(stderr, "\rt = %.4g of %.4g s, cycle %d of %d   ", t, end, c < nc ? c : nc, nc);
-  else fprintf(stderr, "\rt = %.4g of %.4g s   ", t, end);
+  if (T > 0) {
+    int nc = (int)(end / T + 0.5), c = (int)(t / T) + 1;
+    fprintf(stderr, "\rt = %.4g of %.4g s, cycle %d of %d   ", t, end, c < nc ? c : nc, nc);
+  } else {
+    fprintf(stderr, "\rt = %.4g of %.4g s   ", t, end);
+  }
   if (t >= end * (1 - 1e-12)) fputc('\n', stderr);
 }
 
