@@ -77,7 +77,8 @@ static int add_column(fci_csv *c, char *field, fc_error *err)
   }
   if (!(c->name[c->nCol] = fc_strdup(f)) || !(c->unit[c->nCol] = fc_strdup(unit)))
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
-  if (!strcmp(f, "error")) c->iErr = c->nCol;
+  /* a sweep's last column is "status" ("ok" or the point's error); older files call it "error" */
+  if (!strcmp(f, "error") || !strcmp(f, "status")) c->iErr = c->nCol;
   c->nCol++;
   return FC_OK;
 }
@@ -158,6 +159,7 @@ int fci_csv_next(fci_csv *c, fc_error *err)
     }
     if (k == c->iErr) {
       c->errText = trimmed(f);
+      if (!strcmp(c->errText, "ok")) c->errText = "";
       c->val[k++] = NAN;
       continue;
     }

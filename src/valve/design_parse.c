@@ -242,9 +242,11 @@ static void default_angles(fc_valve_design *d, double adv, double rec, const cJS
 int fci_design_parse_body(fc_valve_design *d, const cJSON *obj, const char *path,
                           const fci_parse_ctx *ctx, fc_error *err)
 {
+  /* "calibration": the record of `ferrocirc valve calibrate` (data, residuals, covariance);
+   * documentation only, the physics never reads it. */
   static const char *const keys[] = {"format", "name", "note", "channel", "ferrofluid",
-                                     "carrier", "magnets", "numerics", NULL};
-  const cJSON *ch = NULL, *ff = NULL, *ca = NULL, *nu = NULL;
+                                     "carrier", "magnets", "numerics", "calibration", NULL};
+  const cJSON *ch = NULL, *ff = NULL, *ca = NULL, *nu = NULL, *cal = NULL;
   char kp[256];
   double adv = 0.0, rec = 0.0;
   int rc = fci_check_keys(obj, keys, NULL, path, err);
@@ -252,6 +254,7 @@ int fci_design_parse_body(fc_valve_design *d, const cJSON *obj, const char *path
   if (!rc) rc = fci_get_object(obj, "ferrofluid", 1, &ff, path, err);
   if (!rc) rc = fci_get_object(obj, "carrier", 1, &ca, path, err);
   if (!rc) rc = fci_get_object(obj, "numerics", 0, &nu, path, err);
+  if (!rc) rc = fci_get_object(obj, "calibration", 0, &cal, path, err);
   if (!rc) rc = parse_channel(d, ch, fci_path_key(kp, sizeof kp, path, "channel"), ctx, err);
   if (!rc) rc = parse_ferrofluid(d, ff, fci_path_key(kp, sizeof kp, path, "ferrofluid"), ctx,
                                  &adv, &rec, err);

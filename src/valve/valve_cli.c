@@ -1,5 +1,7 @@
 /* ferrocirc — `ferrocirc valve DESIGN.json [--profile OUT.csv] [--json] [--unit U]
  *                             [--vary PATH=FROM..TO --steps N [-o OUT.csv]]`
+ *           `ferrocirc valve calibrate MEAS.csv --fit PATH[,PATH...] ...` (calibrate_cli.c)
+ *           `ferrocirc valve DESIGN.json --target Q=VALUE --adjust KEY ...` (valve_target_cli.c)
  *
  * Prints a design's forward and reverse cracking pressures, reseat pressures, blowout,
  * differential and ratio in the report unit (default mmHg), with the cautions; --json prints the
@@ -12,7 +14,10 @@
 #include <string.h>
 
 #include "ferrocirc/alloc.h"
+#include "../cli.h"
+#include "calibrate.h"
 #include "valve_int.h"
+#include "valve_target.h"
 
 typedef struct args {
   const char *design, *profile, *unit, *vary, *out;
@@ -22,7 +27,10 @@ typedef struct args {
 static int usage(const char *msg)
 {
   fprintf(stderr, "ferrocirc valve: %s\nusage: ferrocirc valve DESIGN.json [--profile OUT.csv] "
-          "[--json] [--unit mmHg] [--vary PATH=FROM..TO --steps N [-o OUT.csv]]\n", msg);
+          "[--json] [--unit mmHg] [--vary PATH=FROM..TO --steps N [-o OUT.csv]]\n"
+          "       ferrocirc valve calibrate MEAS.csv --fit PATH[,PATH...] [--bounds PATH=LO..HI] "
+          "[--cross-validate] [-o CALIBRATED.json]\n"
+          "       ferrocirc valve DESIGN.json --target Q=VALUE --adjust KEY [--range A..B]\n", msg);
   return 2;
 }
 
@@ -54,13 +62,6 @@ static int parse_args(int argc, char **argv, args *a)
   if (!a->design) return usage("no design file given");
   if (a->out && !a->vary) return usage("-o goes with --vary");
   return 0;
-}
-
-static int fail(const fc_error *e)
-{
-  char buf[1400];
-  fprintf(stderr, "%s\n", fc_error_format(e, buf, sizeof buf));
-  return fc_error_exit_status(e->code);
 }
 
 /* "12.5mm" -> 12.5 and "mm" (unit may be empty). */
@@ -98,7 +99,7 @@ static int run_vary(const args *a, const fc_valve_design *d, const fc_units *u, 
   if (!parse_vary(a->vary, key, sizeof key, &from, &to, unit, sizeof unit))
     return usage("--vary expects PATH=FROM..TO, e.g. magnets[0].gap=0.5mm..3mm (one unit)");
   FILE *f = a->out ? fci_atomic_open(a->out, tmp, sizeof tmp, &e) : stdout;
-  if (!f) return fail(&e);
+  if (!f) return fci_cli_report(&e);
   fci_vary_header(f, key, unit, a->unit);
   int rc = FC_OK;
   for (int i = 0; i < a->steps && !rc; i++) {
@@ -111,20 +112,20 @@ static int run_vary(const args *a, const fc_valve_design *d, const fc_units *u, 
     int ok = fc_valve_design_solve(dv, &p, &e) == FC_OK;
     if (!ok) {
       fprintf(stderr, "ferrocirc valve: %s = %s: ", key, val);
-      fail(&e);
+      fci_cli_report(&e);
       fc_error_clear(&e);
     }
     fci_vary_row(f, v, &p, k, ok);
     fc_valve_design_free(dv);
   }
-  if (f == stdout) return rc ? fail(&e) : 0;
+  if (f == stdout) return rc ? fci_cli_report(&e) : 0;
   if (rc) {
     fclose(f);
     remove(tmp);
-    return fail(&e);
+    return fci_cli_report(&e);
   }
   rc = fci_atomic_close(f, tmp, a->out, &e);
-  return rc ? fail(&e) : 0;
+  return rc ? fci_cli_report(&e) : 0;
 }
 
 static int write_profile(const fc_valve_design *d, const char *file)
@@ -134,14 +135,14 @@ static int write_profile(const fc_valve_design *d, const char *file)
   size_t n = 0;
   char tmp[1100];
   fc_error_clear(&e);
-  if (fc_valve_design_profile(d, &pt, &n, &e)) return fail(&e);
+  if (fc_valve_design_profile(d, &pt, &n, &e)) return fci_cli_report(&e);
   FILE *f = fci_atomic_open(file, tmp, sizeof tmp, &e);
   if (f) {
     fci_profile_csv(f, pt, n);
     fci_atomic_close(f, tmp, file, &e);
   }
   fc_free(pt);
-  return e.code ? fail(&e) : 0;
+  return e.code ? fci_cli_report(&e) : 0;
 }
 
 static int run(const args *a, fc_units *u)
@@ -151,13 +152,13 @@ static int run(const args *a, fc_units *u)
   fc_valve_pressures p;
   double k;
   fc_error_clear(&e);
-  if (fc_units_out_factor(u, a->unit, FC_DIM_PRESSURE, &k, "--unit", &e)) return fail(&e);
-  if (fc_valve_design_load(a->design, u, &d, &e)) return fail(&e);
+  if (fc_units_out_factor(u, a->unit, FC_DIM_PRESSURE, &k, "--unit", &e)) return fci_cli_report(&e);
+  if (fc_valve_design_load(a->design, u, &d, &e)) return fci_cli_report(&e);
   int st = 0;
   if (a->vary) st = run_vary(a, d, u, k);
   else if (fc_valve_design_solve(d, &p, &e)) {
     fc_error_set_file(&e, a->design, 0, 0);
-    st = fail(&e);
+    st = fci_cli_report(&e);
   } else if (a->json) fci_report_json(stdout, d, &p);
   else fci_report_text(stdout, d, a->design, &p, a->unit, k);
   if (!st && a->profile) st = write_profile(d, a->profile);
@@ -167,13 +168,16 @@ static int run(const args *a, fc_units *u)
 
 int fc_valve_cli(int argc, char **argv)
 {
+  if (argc > 1 && !strcmp(argv[1], "calibrate")) return fci_cal_cli(argc - 1, argv + 1);
+  for (int i = 1; i < argc; i++) /* design targets have their own options */
+    if (!strcmp(argv[i], "--target")) return fci_valve_target_cli(argc, argv);
   args a;
   int st = parse_args(argc, argv, &a);
   if (st) return st;
   fc_units *u = NULL;
   fc_error e;
   fc_error_clear(&e);
-  if (fc_units_open(&u, &e)) return fail(&e);
+  if (fc_units_open(&u, &e)) return fci_cli_report(&e);
   st = run(&a, u);
   fc_units_free(u);
   return st;

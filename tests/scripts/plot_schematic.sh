@@ -109,6 +109,16 @@ plot_ok sweep sweep.csv --x gap --y 'flow,backflow [%]'
 # one cross per panel (2) plus one per legend (2)
 [ "$(grep -c 'stroke="#C00000"' sweep.svg)" = 4 ] && ok || fail "sweep: the failed point is not marked in both panels"
 
+# --- a real `ferrocirc sweep` table: the "status" column ("ok" or the error) is not a number ---
+if "$CLI" sweep "$SRC/networks/diaphragm-one-magnet.json" --vary 'elements[diaphragm].backing_pressure.peak=20mbar..30mbar' \
+     --steps 3 --jobs 1 --quiet -o real_sweep.csv >/dev/null 2>"$WORK/err"; then
+  ycol=$(head -1 real_sweep.csv | tr ',' '\n' | grep -m1 '^rf:')
+  plot_ok real_sweep real_sweep.csv --x 'elements[diaphragm].backing_pressure.peak [mbar]' --y "$ycol"
+  [ "$(grep -c '<circle' real_sweep.svg)" -ge 3 ] && ok || fail "real_sweep: expected 3 point markers"
+else
+  fail "sweep for the plot: $(head -3 "$WORK/err")"
+fi
+
 # --- a long run: decimation keeps the spike and bounds the points ---
 awk 'BEGIN { print "t [s],p:a [mbar],q:b [uL/min]";
   for (i = 0; i < 300000; i++) { p = sin(i / 500.0); if (i == 123457) p = 1000; printf "%.6f,%.6f,%.6f\n", i * 1e-3, p, -p } }' > long.csv
