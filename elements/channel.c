@@ -33,6 +33,8 @@ typedef struct channel_param {
 static const char *const keys[] = {"length",    "diameter", "width",   "height",
                                    "viscosity", "inertance", "culture", NULL};
 
+#define FC_CHANNEL_MIN_ASPECT 1e-9
+
 /* Exactly one cross-section form: "diameter", or "width" with "height". */
 static int parse_section(channel_param *P, const cJSON *obj, const char *path,
                          const fci_parse_ctx *ctx, fc_error *err)
@@ -56,6 +58,14 @@ static int parse_section(channel_param *P, const cJSON *obj, const char *path,
                             err);
   if (!rc) rc = fci_get_quantity(obj, "height", FC_DIM_LENGTH, 1, 0.0, FCI_POS, &P->height,
                                  path, ctx, err);
+  /* The duct series (src/hydraulics.c) take alpha^4 and 1/alpha: below 1e-9 (a 1 nm slit in a
+   * 1 m wide channel) they underflow long before any real chip gets there. */
+  double a = fmin(P->width, P->height) / fmax(P->width, P->height);
+  if (!rc && !(a >= FC_CHANNEL_MIN_ASPECT))
+    rc = fc_fail(err, FC_EPARAM, fci_path_key(kp, sizeof kp, path, "height"),
+                 "height/width aspect ratio %.3g is outside the range of the rectangular-duct "
+                 "model; expected the smaller side at least %.0e times the larger",
+                 a, FC_CHANNEL_MIN_ASPECT);
   return rc;
 }
 

@@ -2,6 +2,7 @@
  * SIGINT/SIGTERM ask the integrator to stop; outputs are then removed, or kept as
  * "PATH.partial" with --keep-partial, with a note of the last time reached. */
 #define _POSIX_C_SOURCE 200809L
+#include <errno.h>
 #include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -22,8 +23,10 @@ typedef struct run_args {
 } run_args;
 
 typedef struct run_io {
-  fc_outfile *csv, *events;
+  fc_outfile *csv, *events, *summary;
   fc_csv_sink *sink;
+  int write_errno;    /* errno of the first failed write during the run, 0 if none */
+  fc_outfile *failed; /* the output that write went to */
   const fc_net *net;
   double pf;
   double next_show;   /* wall-clock time of the next progress line [s] */
@@ -85,7 +88,12 @@ static int on_event(void *ctx, double t, int elem, int a, int b, double dp)
   run_io *io = ctx;
   if (!io->events) return 0;
   FILE *f = fc_outfile_stream(io->events);
-  return fprintf(f, "%.9g,%s,%d,%d,%.9g\n", t, fc_net_elem_id(io->net, elem), a, b, dp * io->pf) < 0;
+  errno = 0;
+  if (fprintf(f, "%.9g,%s,%d,%d,%.9g\n", t, fc_net_elem_id(io->net, elem), a, b, dp * io->pf) >= 0)
+    return 0;
+  io->write_errno = errno ? errno : EIO;
+  io->failed = io->events;
+  return 1;
 }
 
 static int sample(void *ctx, double t, const double *p, const double *q, const int *m);
@@ -95,42 +103,48 @@ static fc_sim_sink bound;
 static int sample(void *ctx, double t, const double *p, const double *q, const int *m)
 {
   run_io *io = ctx;
-  return io->sink ? bound.xSample(bound.ctx, t, p, q, m) : 0;
-}
-
-static int write_summary(const char *path, const fc_net *net, const fc_sim_result *r, fc_error *err)
-{
-  char *txt = fc_summary_json(net, r);
-  if (!txt) return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
-  fc_outfile *o;
-  int rc = fc_outfile_open(path, &o, err);
-  if (!rc) {
-    fputs(txt, fc_outfile_stream(o));
-    fputc('\n', fc_outfile_stream(o));
-    rc = fc_outfile_commit(o, err);
+  if (!io->sink) return 0;
+  errno = 0;
+  int bad = bound.xSample(bound.ctx, t, p, q, m);
+  if (bad && !io->write_errno) {
+    io->write_errno = errno ? errno : EIO;
+    io->failed = io->csv;
   }
-  free(txt);
-  return rc;
+  return bad;
 }
 
-static int finish_outputs(run_io *io, const run_args *a, int rc, const fc_sim_result *r, fc_error *err)
+/* All outputs were opened before the run (so an unwritable folder stops it before any work);
+ * they are completed here and committed together, or all removed. */
+static int finish_outputs(run_io *io, const run_args *a, int rc, const fc_net *net,
+                          const fc_sim_result *r, fc_error *err)
 {
-  char note[128];
   if (rc == FC_EINTR && a->keep_partial) {
+    char note[128];
     snprintf(note, sizeof note, "partial: interrupted, last time reached t = %.9g s", r ? r->t_end : 0.0);
     fc_error e2 = {0};
     if (io->csv) fc_outfile_keep_partial(io->csv, note, &e2);
     if (io->events) fc_outfile_keep_partial(io->events, note, &e2);
+    fc_outfile_abort(io->summary); /* a summary of part of a run would mislead */
     return rc;
+  }
+  if (!rc && io->summary) {
+    char *txt = fc_summary_json(net, r);
+    if (!txt) rc = fc_fail(err, FC_ENOMEM, NULL, "out of memory");
+    else {
+      FILE *f = fc_outfile_stream(io->summary);
+      fputs(txt, f);
+      fputc('\n', f);
+      free(txt);
+    }
   }
   if (rc) {
     fc_outfile_abort(io->csv);
     fc_outfile_abort(io->events);
+    fc_outfile_abort(io->summary);
     return rc;
   }
-  int rc1 = io->csv ? fc_outfile_commit(io->csv, err) : FC_OK;
-  if (rc1) { fc_outfile_abort(io->events); return rc1; }
-  return io->events ? fc_outfile_commit(io->events, err) : FC_OK;
+  fc_outfile *all[3] = {io->csv, io->events, io->summary};
+  return fc_outfile_commit_all(all, 3, err);
 }
 
 static int simulate(fc_net *net, const fc_units *u, const run_args *a, fc_error *err)
@@ -149,16 +163,21 @@ static int simulate(fc_net *net, const fc_units *u, const run_args *a, fc_error 
   if (!rc && a->events && !(rc = fc_outfile_open(a->events, &io.events, err)) &&
       fc_events_csv_header(fc_outfile_stream(io.events), ru.p_unit))
     rc = fc_fail(err, FC_EIO, NULL, "writing %s failed", a->events);
+  if (!rc && a->summary) rc = fc_outfile_open(a->summary, &io.summary, err);
   if (!rc) {
     if (io.sink) fc_csv_sink_bind(io.sink, &bound);
     int show = !a->quiet && isatty(2);
     io.next_show = wall() + 0.5; /* short runs print nothing */
     fc_sim_sink sink = {&io, io.sink ? sample : NULL, on_event, show ? progress : NULL};
     rc = fc_sim_run(net, &sink, &r, err);
-    if (rc && rc != FC_EINTR) fc_error_set_file(err, net->file, 0, 0);
+    if (rc && io.write_errno) { /* the disk, not the network: name the output, not the input */
+      double t = r ? r->t_end : 0.0;
+      fc_error_clear(err);
+      fc_fail(err, FC_EIO, NULL, "writing %s failed near t = %.9g s: %s; no output was written",
+              fc_outfile_path(io.failed), t, strerror(io.write_errno));
+    } else if (rc && rc != FC_EINTR) fc_error_set_file(err, net->file, 0, 0);
   }
-  rc = finish_outputs(&io, a, rc, r, err);
-  if (!rc && a->summary) rc = write_summary(a->summary, net, r, err);
+  rc = finish_outputs(&io, a, rc, net, r, err);
   if (!rc && !a->quiet) fc_summary_print(stdout, net, r, &ru);
   fc_csv_sink_free(io.sink);
   fc_sim_result_free(r);

@@ -158,6 +158,10 @@ int fci_get_waveform(const struct cJSON *obj, const char *key, fc_dim dim, int r
 /* Object under key (NULL if missing and not required). */
 int fci_get_object(const struct cJSON *obj, const char *key, int required,
                    const struct cJSON **out, const char *path, fc_error *err);
+/* Optimal-string-alignment edit distance (INT_MAX for names over 64 characters), and the
+ * largest distance that still reads as a typo of a name of length len. */
+int fci_typo_distance(const char *a, const char *b);
+int fci_typo_limit(size_t len);
 /* Check that every key of obj is in one of the NULL-terminated lists (either may be NULL);
  * the error for an unknown key suggests the nearest allowed key ("did you mean ...?"). */
 int fci_check_keys(const struct cJSON *obj, const char *const *keys1,

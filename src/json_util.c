@@ -127,6 +127,16 @@ int fci_json_parse(const char *buf, size_t len, const char *name, cJSON **out, f
     fc_error_set_file(err, name, line, col);
     return FC_EJSON;
   }
+  /* JSON text may not hold a raw NUL (RFC 8259 section 7: control characters must be escaped);
+   * cJSON would accept one inside a string and cut the string there. */
+  const char *nul = memchr(buf, '\0', len);
+  if (nul) {
+    fci_line_col(buf, (size_t)(nul - buf), &line, &col);
+    fc_fail(err, FC_EJSON, NULL, "NUL byte in the text; expected JSON text (write \\u0000 "
+            "inside a string if it is meant)");
+    fc_error_set_file(err, name, line, col);
+    return FC_EJSON;
+  }
   size_t deep = nesting_exceeds(buf, len, FCI_JSON_MAX_DEPTH);
   if (deep != (size_t)-1) {
     fci_line_col(buf, deep, &line, &col);
@@ -135,7 +145,7 @@ int fci_json_parse(const char *buf, size_t len, const char *name, cJSON **out, f
     return FC_EJSON;
   }
   /* With require_null_terminated, cJSON wants the NUL inside the length it is given; a copy
-   * guarantees it (and a NUL byte inside the text then stops parsing, as it should). */
+   * guarantees it (raw NUL bytes were refused above). */
   char *copy = fc_malloc(len + 1);
   if (!copy) return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
   memcpy(copy, buf, len);
@@ -147,7 +157,11 @@ int fci_json_parse(const char *buf, size_t len, const char *name, cJSON **out, f
   if (!j) {
     fci_line_col(buf, off, &line, &col);
     if (off >= len) fc_fail(err, FC_EJSON, NULL, "JSON syntax error: unexpected end of file");
-    else fc_fail(err, FC_EJSON, NULL, "JSON syntax error near '%.12s'", buf + off);
+    else { /* buf need not be NUL-terminated: print at most what is left of it, one line */
+      int n = 0;
+      while (n < 12 && off + (size_t)n < len && buf[off + n] != '\n' && buf[off + n] != '\r') n++;
+      fc_fail(err, FC_EJSON, NULL, "JSON syntax error near '%.*s'", n, buf + off);
+    }
     fc_error_set_file(err, name, line, col);
     return FC_EJSON;
   }

@@ -1,6 +1,7 @@
 /* ferrocirc — the "elements" array: ids, types, terminals, then each type's own parser.
  * Nodes exist by being named; their index is the order of first mention. */
 #include <cjson/cJSON.h>
+#include <limits.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -123,6 +124,40 @@ static int parse_one(loader *L, fc_elem *e, const cJSON *obj, const fci_parse_ct
   return FC_OK;
 }
 
+/* A node that only one terminal names carries no flow: almost always a misspelt node name
+ * ("outt" for "out"), so it is refused at the terminal that names it, with the nearest other
+ * node name as a suggestion. */
+static int check_dangling(const fc_net *net, fc_error *err)
+{
+  int *uses = fc_calloc((size_t)net->nNode + 1, sizeof *uses);
+  if (!uses) return fc_fail(err, FC_ENOMEM, "$.elements", "out of memory");
+  for (int i = 0; i < net->nElem; i++)
+    for (int k = 0; k < net->elem[i].nTerm; k++) uses[net->elem[i].node[k]]++;
+  int rc = FC_OK;
+  for (int i = 0; i < net->nElem && !rc; i++) {
+    const fc_elem *e = &net->elem[i];
+    for (int k = 0; k < e->nTerm && !rc; k++) {
+      int nd = e->node[k];
+      if (uses[nd] != 1) continue;
+      const char *name = net->nodeName[nd], *best = NULL;
+      int bd = INT_MAX;
+      for (int j = 0; j < net->nNode; j++) {
+        int d = j == nd ? INT_MAX : fci_typo_distance(name, net->nodeName[j]);
+        if (d < bd) bd = d, best = net->nodeName[j];
+      }
+      char p[320], hint[260] = "";
+      if (best && bd <= fci_typo_limit(strlen(name)))
+        snprintf(hint, sizeof hint, "; did you mean \"%s\"?", best);
+      rc = fc_fail(err, FC_ETOPO, fci_path_key(p, sizeof p, e->path,
+                   e->nTerm == 1 ? "node" : k == 0 ? "from" : "to"),
+                   "node \"%s\" is named by no other element, so nothing can flow through it; "
+                   "expected every node to join at least two terminals%s", name, hint);
+    }
+  }
+  fc_free(uses);
+  return rc;
+}
+
 int fci_net_parse_elements(fc_net *net, const cJSON *arr, const fci_parse_ctx *ctx, fc_error *err)
 {
   if (!arr) return fc_fail(err, FC_EPARAM, "$.elements", "missing; expected an array of elements");
@@ -152,6 +187,7 @@ int fci_net_parse_elements(fc_net *net, const cJSON *arr, const fci_parse_ctx *c
     if (!(e->path = fc_strdup(p))) { rc = fc_fail(err, FC_ENOMEM, p, "out of memory"); break; }
     if ((rc = parse_one(&L, e, obj, ctx, err))) break;
   }
+  if (!rc) rc = check_dangling(net, err);
 done:
   fci_strmap_free(&L.nodes);
   fci_strmap_free(&L.ids);

@@ -68,10 +68,38 @@ int fc_outfile_commit(fc_outfile *o, fc_error *err)
   return FC_OK;
 }
 
+/* Two phases, so that either every output appears or none does: first flush, sync and close
+ * every temporary (this is where a full disk shows), then rename them all. */
+int fc_outfile_commit_all(fc_outfile **o, int n, fc_error *err)
+{
+  int bad = -1, e = 0;
+  for (int i = 0; i < n; i++) {
+    if (!o[i]) continue;
+    int fail = ferror(o[i]->f) || fflush(o[i]->f) != 0 || fsync(fileno(o[i]->f)) != 0;
+    if (fail && bad < 0) { bad = i; e = errno ? errno : EIO; }
+    if (fclose(o[i]->f) != 0 && bad < 0) { bad = i; e = errno; }
+    o[i]->f = NULL;
+  }
+  for (int i = 0; i < n && bad < 0; i++)
+    if (o[i] && rename(o[i]->tmp, o[i]->path) != 0) { bad = i; e = errno; }
+  if (bad >= 0)
+    fc_fail(err, FC_EIO, NULL, "writing %s failed: %s; no output was written", o[bad]->path,
+            strerror(e));
+  for (int i = 0; i < n; i++) {
+    if (!o[i]) continue;
+    if (bad >= 0) unlink(o[i]->tmp);
+    drop(o[i]);
+    o[i] = NULL;
+  }
+  return bad >= 0 ? FC_EIO : FC_OK;
+}
+
+const char *fc_outfile_path(const fc_outfile *f) { return f->path; }
+
 void fc_outfile_abort(fc_outfile *o)
 {
   if (!o) return;
-  fclose(o->f);
+  if (o->f) fclose(o->f);
   unlink(o->tmp);
   drop(o);
 }

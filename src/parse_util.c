@@ -7,6 +7,7 @@
 #include "elem.h"
 
 #include <cjson/cJSON.h>
+#include <limits.h>
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
@@ -123,25 +124,31 @@ static int in_list(const char *key, const char *const *list)
   return 0;
 }
 
+int fci_typo_distance(const char *a, const char *b)
+{
+  if (strlen(a) > KEY_MAX || strlen(b) > KEY_MAX) return INT_MAX;
+  return osa_distance(a, b);
+}
+
+/* About one edit per three characters, at least one and at most three. */
+int fci_typo_limit(size_t len)
+{
+  int limit = (int)(len / 3);
+  return limit < 1 ? 1 : limit > 3 ? 3 : limit;
+}
+
 /* The allowed key nearest to key, if near enough to be a plausible typo; else NULL. */
 static const char *nearest(const char *key, const char *const *l1, const char *const *l2)
 {
   const char *best = NULL;
-  int bd = KEY_MAX + 1;
-  size_t nk = strlen(key);
-  if (nk > KEY_MAX) return NULL;
+  int bd = INT_MAX;
   const char *const *lists[2] = {l1, l2};
   for (int k = 0; k < 2; k++)
     for (const char *const *p = lists[k]; p && *p; p++) {
-      if (strlen(*p) > KEY_MAX) continue;
-      int d = osa_distance(key, *p);
+      int d = fci_typo_distance(key, *p);
       if (d < bd) bd = d, best = *p;
     }
-  /* Allow about one edit per three characters, at least one and at most three. */
-  int limit = (int)(nk / 3);
-  if (limit < 1) limit = 1;
-  if (limit > 3) limit = 3;
-  return bd <= limit ? best : NULL;
+  return bd <= fci_typo_limit(strlen(key)) ? best : NULL;
 }
 
 /* Append the allowed keys to buf as "a, b, c" (truncated silently: it is only a hint). */

@@ -1,7 +1,7 @@
 /* ferrocirc — unit strings in, SI inside (see include/ferrocirc/units.h).
  *
  * UDUNITS-2 does the unit algebra; we split "NUMBER UNIT" ourselves (UDUNITS would read "3 mbar"
- * as the unit 300 Pa) and check the dimension with ut_are_convertible against the SI unit of the
+ * as the unit 300 Pa) and check the dimension (same_dimension below) against the SI unit of the
  * expected fc_dim. A few symbols of the database are corrected or added at open time:
  *   torr, Torr  UDUNITS makes torr an alias of mmHg (133.322 387 415 Pa); the torr is
  *               101 325/760 Pa = 133.322 368 4 Pa exactly (NIST SP 811, App. B), 1.4e-7 apart.
@@ -172,11 +172,24 @@ static size_t number_length(const char *s)
   return i;
 }
 
-/* The first dimension the unit is convertible to, or -1. */
+/* 1 if a and b measure the same quantity. ut_are_convertible alone is not enough: UDUNITS-2
+ * also calls reciprocal units convertible (it returns 1 for "s" and "Hz"; checked with Debian
+ * 12's 2.2.28), which would read a conductance as a resistance. Same dimension <=> a/b is
+ * dimensionless. */
+static int same_dimension(const ut_unit *a, const ut_unit *b)
+{
+  if (!ut_are_convertible(a, b)) return 0;
+  ut_unit *q = ut_divide(a, b);
+  int same = q ? ut_is_dimensionless(q) : 1; /* no quotient (offset units): trust the above */
+  ut_free(q);
+  return same;
+}
+
+/* The first dimension the unit measures, or -1. */
 static int classify(const fc_units *u, const ut_unit *unit)
 {
   for (int d = 0; d < FC_DIM_COUNT; d++)
-    if (ut_are_convertible(unit, u->si[d])) return d;
+    if (same_dimension(unit, u->si[d])) return d;
   return -1;
 }
 
@@ -189,7 +202,7 @@ static int parse_unit(const fc_units *u, const char *text, const char *ustr, fc_
     return fc_fail(err, FC_EPARAM, path, "\"%s\": unknown unit \"%s\"; expected %s %s such as "
                    "\"%s\"", text, ustr, article(dims[dim].name), dims[dim].name,
                    dims[dim].example);
-  if (ut_are_convertible(*out, u->si[dim])) return FC_OK;
+  if (same_dimension(*out, u->si[dim])) return FC_OK;
   int got = classify(u, *out);
   ut_free(*out);
   *out = NULL;
@@ -308,7 +321,7 @@ int fc_units_out_factor(const fc_units *u, const char *unit, fc_dim dim, double 
   if (!un)
     return fc_fail(err, FC_EPARAM, NULL, "%s: unknown unit \"%s\"; expected a unit of %s such "
                    "as %s", what, unit, dims[dim].name, dims[dim].si);
-  int ok = ut_are_convertible(un, u->si[dim]);
+  int ok = same_dimension(un, u->si[dim]);
   int got = ok ? (int)dim : classify(u, un);
   cv_converter *cv = ok ? ut_get_converter(u->si[dim], un) : NULL;
   ut_free(un);
@@ -342,7 +355,7 @@ int fc_units_convert(const fc_units *u, double x, const char *from, const char *
   char *sa = trim(a), *sb = trim(b);
   ut_unit *ua = *sa ? ut_parse(u->sys, sa, UT_UTF8) : ut_get_dimensionless_unit_one(u->sys);
   ut_unit *ub = *sb ? ut_parse(u->sys, sb, UT_UTF8) : ut_get_dimensionless_unit_one(u->sys);
-  cv_converter *cv = ua && ub && ut_are_convertible(ua, ub) ? ut_get_converter(ua, ub) : NULL;
+  cv_converter *cv = ua && ub && same_dimension(ua, ub) ? ut_get_converter(ua, ub) : NULL;
   int rc = FC_OK;
   if (cv) *y = cv_convert_double(cv, x);
   else rc = fc_fail(err, FC_EPARAM, NULL, "cannot convert \"%s\" to \"%s\"", from, to);

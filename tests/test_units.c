@@ -121,6 +121,24 @@ static void wrong_dimension_names_path_and_expectation(void **state)
   assert_non_null(strstr(err.msg, "expected a pressure (Pa)"));
 }
 
+/* UDUNITS-2 calls reciprocal units convertible; a conductance is not a resistance. */
+static void reciprocal_units_are_refused(void **state)
+{
+  (void)state;
+  fc_error err;
+  double v = 0, f = 0;
+  fc_error_clear(&err);
+  assert_int_equal(fc_units_parse(U, "2 s", FC_DIM_FREQUENCY, &v, "$.f", &err), FC_EPARAM);
+  assert_string_equal(err.msg, "\"2 s\" is a time, expected a frequency (Hz)");
+  assert_int_equal(fc_units_parse(U, "1e-12 m3/(Pa.s)", FC_DIM_RESISTANCE, &v, "$.r", &err),
+                   FC_EPARAM);
+  assert_non_null(strstr(err.msg, "expected a hydraulic resistance"));
+  assert_int_equal(fc_units_out_factor(U, "1/Pa", FC_DIM_PRESSURE, &f, "p unit", &err),
+                   FC_EPARAM);
+  assert_int_equal(fc_units_convert(U, 1.0, "s", "Hz", &v, &err), FC_EPARAM);
+  expect_si("2 1/s", FC_DIM_FREQUENCY, 2.0, 1e-15);           /* the same dimension still works */
+}
+
 static void garbage_fails(void **state)
 {
   (void)state;
@@ -209,6 +227,7 @@ int main(void)
     cmocka_unit_test(flow_and_volume_units),
     cmocka_unit_test(viscosity_field_and_other_units),
     cmocka_unit_test(wrong_dimension_names_path_and_expectation),
+    cmocka_unit_test(reciprocal_units_are_refused),
     cmocka_unit_test(garbage_fails),
     cmocka_unit_test(json_numbers_are_si_strings_parsed_others_refused),
     cmocka_unit_test(output_factors),

@@ -20,6 +20,13 @@ FILE *fc_outfile_stream(fc_outfile *f);
 /* Flush, close and rename over `path`; frees f. FC_EIO on a write error (disk full): then the
  * temporary is removed and `path` is untouched. */
 int fc_outfile_commit(fc_outfile *f, fc_error *err);
+/* Commit the n outputs (NULL entries skipped) together: all are flushed and closed before any
+ * is renamed, and on any write error every temporary is removed, so either all appear or none
+ * does (a rename failing after others succeeded is the one gap: same folder, so rare). Frees
+ * them and sets the entries to NULL. */
+int fc_outfile_commit_all(fc_outfile **f, int n, fc_error *err);
+/* The destination path. */
+const char *fc_outfile_path(const fc_outfile *f);
 /* Remove the temporary; frees f. NULL is a no-op. */
 void fc_outfile_abort(fc_outfile *f);
 /* Close and rename to "PATH.partial" after writing `note` as a last comment line; frees f. */

@@ -141,7 +141,18 @@ int fc_valve_design_parse(const cJSON *obj, const char *path, const fc_units *u,
       snprintf(full, sizeof full, "%s", f->valuestring);
     else
       snprintf(full, sizeof full, "%s/%s", basedir, f->valuestring);
-    return load_at(full, u, out, err);
+    int rc = load_at(full, u, out, err);
+    if (rc == FC_EIO && !err->path[0]) {
+      /* The file cannot be read: the mistake is in the network that names it, so report it at
+       * that file and path (the caller sets the file) rather than at the missing one. */
+      char msg[sizeof err->msg];
+      snprintf(msg, sizeof msg, "%s", err->msg);
+      fc_error_clear(err);
+      fc_fail(err, FC_EIO, kp, "valve design file \"%s\" (%s): %s; expected a readable "
+              "valve-design JSON file, relative to the network's folder", f->valuestring, full,
+              msg);
+    }
+    return rc;
   }
   cJSON *copy = cJSON_Duplicate(obj, 1);
   if (!copy) return fc_fail(err, FC_ENOMEM, path, "out of memory");
