@@ -9,13 +9,14 @@
 
 #include "study_int.h"
 
-static uint64_t splitmix64(uint64_t *x)
+uint64_t fci_rng_mix(uint64_t z)
 {
-  uint64_t z = (*x += 0x9E3779B97F4A7C15ull);
   z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ull;
   z = (z ^ (z >> 27)) * 0x94D049BB133111EBull;
   return z ^ (z >> 31);
 }
+
+static uint64_t splitmix64(uint64_t *x) { return fci_rng_mix(*x += 0x9E3779B97F4A7C15ull); }
 
 static uint64_t rotl(uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
 

@@ -35,6 +35,30 @@ typedef struct fci_rng { uint64_t s[4]; } fci_rng;
 void fci_rng_seed(fci_rng *r, uint64_t seed, uint64_t stream);
 double fci_rng_uniform(fci_rng *r);   /* [0, 1) */
 double fci_rng_normal(fci_rng *r);    /* standard normal (Box-Muller) */
+uint64_t fci_rng_mix(uint64_t x);     /* splitmix64's finaliser: a 64-bit hash of x */
+
+/* ---- Calibrated designs in Monte Carlo (mc_cov.c, mc_joint.c) ----
+ * The fitted parameters of a design's "calibration" block are drawn jointly from N(theta, C),
+ * one draw per calibration and point shared by every element that carries it (mc_joint.c says
+ * why). */
+#define FCI_MC_MAX_JOINT 16
+/* A factor l (m x m, row-major) with l l^T = c for a covariance c (m x m, any units): Cholesky
+ * when c is positive definite, else a clipped eigen-decomposition (c semi-definite); *rank is
+ * the number of directions drawn. -1 with a reason in why if c is not a covariance. */
+int fci_mc_cov_factor(int m, const double *c, double *l, int *rank, char *why, size_t nwhy);
+struct fci_study;
+typedef struct fci_mc_joint fci_mc_joint;
+/* Calibrations among the element designs of S->base, mapped to the toleranced values S->p they
+ * fit; *out = NULL when there are none. FC_EPARAM (JSON path set) for a malformed block or one
+ * that no longer matches its design (value, tolerance or path changed by hand). */
+int fci_mc_joint_new(const struct fci_study *S, fci_mc_joint **out, fc_error *err);
+/* Overwrite the fitted values in v (point k's values, in the units of S->p) by the joint draw of
+ * point k; depends only on seed, k and the calibrations. J may be NULL (nothing to do). */
+void fci_mc_joint_apply(const fci_mc_joint *J, uint64_t seed, long k, double *v);
+/* Number of calibrations; *nfitted their parameters, *ndeficient those with a semi-definite
+ * covariance (a direction not drawn). Either pointer may be NULL. */
+int fci_mc_joint_groups(const fci_mc_joint *J, int *nfitted, int *ndeficient);
+void fci_mc_joint_free(fci_mc_joint *J);
 
 /* ---- Metrics of one run (metrics.c) ---- */
 typedef struct fci_metrics {

@@ -59,6 +59,7 @@ void fci_study_free(fci_study *S)
   fci_metrics_free(&S->cols);
   fc_free(S->limit_name);
   fc_free(S->limit_value);
+  fci_mc_joint_free(S->joint);
   cJSON_Delete(S->base);
   memset(S, 0, sizeof *S);
 }
@@ -167,6 +168,7 @@ int fci_study_monte_carlo(fci_study *S, long samples, uint64_t seed, fc_error *e
   if (samples < 1 || samples > FCI_MAX_POINTS)
     return fc_fail(err, FC_EUSAGE, NULL, "--monte-carlo takes 1..%ld samples", FCI_MAX_POINTS);
   int rc = walk(S, S->base, path, sizeof path, 1, err);
+  if (!rc) rc = fci_mc_joint_new(S, &S->joint, err);
   if (rc) { fc_error_set_file(err, S->file, 0, 0); return rc; }
   if (!S->np)
     return fc_fail(err, FC_EUSAGE, NULL, "%s has no toleranced values ({\"value\": ..., "
@@ -177,8 +179,9 @@ int fci_study_monte_carlo(fci_study *S, long samples, uint64_t seed, fc_error *e
   return FC_OK;
 }
 
-/* Values of point k, in each parameter's unit. Grid: the first axis varies slowest. */
-static void point_values(const fci_study *S, long k, double *v)
+/* Grid: the first axis varies slowest. Monte Carlo: one stream per point; fitted values of
+ * calibrated designs are then replaced by their joint draw (mc_joint.c). */
+void fci_study_point(const fci_study *S, long k, double *v)
 {
   if (S->mc) {
     fci_rng r;
@@ -188,6 +191,7 @@ static void point_values(const fci_study *S, long k, double *v)
       double z = p->uniform ? 2 * fci_rng_uniform(&r) - 1 : 0.5 * fci_rng_normal(&r);
       v[i] = p->nominal + p->half * z;
     }
+    fci_mc_joint_apply(S->joint, S->seed, k, v);
     return;
   }
   for (int i = S->np - 1; i >= 0; i--) {
@@ -249,7 +253,7 @@ int fci_study_row(const fci_study *S, long k, FILE *f)
   double vals[1024], *buf = S->cols.n <= 1024 ? vals : fc_malloc((size_t)S->cols.n * sizeof *buf);
   if (S->np > 64 || !buf) return -1;
   m.value = buf;
-  point_values(S, k, v);
+  fci_study_point(S, k, v);
   int rc = point_result(S, v, &m, &err);
   fprintf(f, "%ld", k);
   for (int i = 0; i < S->np; i++) fprintf(f, ",%.9g", v[i]);

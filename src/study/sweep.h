@@ -30,6 +30,7 @@ typedef struct fci_study {
   int    nlimit;
   char **limit_name;      /* report.limits: metric names and upper bounds */
   double *limit_value;
+  fci_mc_joint *joint;    /* Monte Carlo: calibrations drawn jointly, NULL if none (owned) */
 } fci_study;
 
 /* Load the base network and check that it runs to its columns. */
@@ -39,6 +40,8 @@ void fci_study_free(fci_study *S);
 int fci_study_add_axis(fci_study *S, const char *spec, int steps, fc_error *err);
 /* Switch to Monte Carlo over every toleranced value of the network. */
 int fci_study_monte_carlo(fci_study *S, long samples, uint64_t seed, fc_error *err);
+/* Values of point k in the units of S->p (grid, or Monte Carlo draws). */
+void fci_study_point(const fci_study *S, long k, double *v);
 /* Header and one row (point k) as CSV text; the row carries the error of a failed point. */
 void fci_study_header(const fci_study *S, FILE *f);
 int fci_study_row(const fci_study *S, long k, FILE *f);
