@@ -1,11 +1,13 @@
 /* ferrocirc — time-series CSV writer (see output.h). Values are converted from SI to the report
- * units once per number, at the edge; rows are written through a 64 KiB stdio buffer. */
+ * units once per number, at the edge. Each row is formatted into one buffer ("%.9g" by
+ * src/fmt_g.c, the same bytes as printf, several times faster) and handed to stdio whole. */
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
 
 #include "ferrocirc/alloc.h"
 #include "ferrocirc/output.h"
+#include "fmt_g.h"
 #include "net.h"
 
 struct fc_csv_sink {
@@ -16,6 +18,7 @@ struct fc_csv_sink {
   int nq;
   int *scol;          /* elements with a state column */
   int ns;
+  char *buf;          /* one row */
 };
 
 static void put_name(FILE *f, const char *prefix, const char *name, const char *unit)
@@ -42,6 +45,15 @@ int fc_csv_sink_new(const fc_net *net, FILE *f, double p_factor, double q_factor
     fc_csv_sink_free(c);
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
   }
+  for (int i = 0; i < net->nElem; i++) c->nq += net->elem[i].nTerm == 2;
+  for (int i = 0; i < net->nElem; i++) c->ns += net->elem[i].nRoot > 0;
+  /* every number: a comma and at most FCI_FMT_G9_MAX - 1 characters; modes: 12 each */
+  size_t cap = ((size_t)net->nNode + (size_t)c->nq + 1) * FCI_FMT_G9_MAX + (size_t)c->ns * 12 + 2;
+  if (!(c->buf = fc_malloc(cap))) {
+    fc_csv_sink_free(c);
+    return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
+  }
+  c->nq = c->ns = 0;
   c->net = net;
   c->f = f;
   c->pf = p_factor;
@@ -68,19 +80,30 @@ void fc_csv_sink_free(fc_csv_sink *c)
   if (!c) return;
   fc_free(c->qcol);
   fc_free(c->scol);
+  fc_free(c->buf);
   fc_free(c);
+}
+
+static char *number(char *o, double v)
+{
+  *o++ = ',';
+  return o + fci_fmt_g9(o, v);
 }
 
 static int row(void *ctx, double t, const double *p, const double *q, const int *mode)
 {
   fc_csv_sink *c = ctx;
-  FILE *f = c->f;
-  fprintf(f, "%.9g", t);
-  for (int n = 0; n < c->net->nNode; n++) fprintf(f, ",%.9g", p[n] * c->pf + 0.0);
-  for (int k = 0; k < c->nq; k++) fprintf(f, ",%.9g", q[c->qcol[k]] * c->qf + 0.0);
-  for (int k = 0; k < c->ns; k++) fprintf(f, ",%d", mode[c->scol[k]]);
-  fputc('\n', f);
-  return ferror(f) ? -1 : 0;
+  char *o = c->buf + fci_fmt_g9(c->buf, t);
+  for (int n = 0; n < c->net->nNode; n++) o = number(o, p[n] * c->pf + 0.0);
+  for (int k = 0; k < c->nq; k++) o = number(o, q[c->qcol[k]] * c->qf + 0.0);
+  for (int k = 0; k < c->ns; k++) {
+    int m = mode[c->scol[k]];
+    if (m >= 0 && m <= 9) { *o++ = ','; *o++ = (char)('0' + m); }
+    else o += snprintf(o, 13, ",%d", m);
+  }
+  *o++ = '\n';
+  size_t len = (size_t)(o - c->buf);
+  return fwrite(c->buf, 1, len, c->f) != len || ferror(c->f) ? -1 : 0;
 }
 
 void fc_csv_sink_bind(fc_csv_sink *c, fc_sim_sink *sink)

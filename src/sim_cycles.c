@@ -1,7 +1,9 @@
 /* ferrocirc — cycle-by-cycle accounting of a run: volumes (from the quadratures), time open,
  * pressure-difference and flow extremes per element, pressure extremes and means per node; the
  * periodic-steady-state test; chatter detection. Extremes are taken at every internal step end
- * (and mode switches end steps), so peaks between output samples are kept. */
+ * (and mode switches end steps), so peaks between output samples are kept; a node pressure
+ * whose step-end values peak at one step end is refined by the vertex of the parabola through
+ * that and the neighbouring step ends (peaks between step ends, see refine_extremes). */
 #include <math.h>
 #include <string.h>
 
@@ -31,7 +33,8 @@ int fci_cycles_init(fci_run *R)
       !NEW(R->win_start, E) || !NEW(R->win_count, E) || !NEW(r->cyc_open, nc * E) ||
       !NEW(r->cyc_dp_max, nc * E) || !NEW(r->cyc_dp_min, nc * E) || !NEW(r->cyc_q_max, nc * E) ||
       !NEW(r->cyc_q_min, nc * E) || !NEW(r->cyc_p_min, nc * N) || !NEW(r->cyc_p_max, nc * N) ||
-      !NEW(r->cyc_p_mean, nc * N) || !NEW(r->blown_elem, E) || !NEW(r->blown_time, E))
+      !NEW(r->cyc_p_mean, nc * N) || !NEW(r->blown_elem, E) || !NEW(r->blown_time, E) ||
+      !NEW(R->ph1, N) || !NEW(R->ph2, N))
     return FC_ENOMEM;
   for (int i = 0; i < E; i++) {
     r->blown_time[i] = NAN;
@@ -47,7 +50,48 @@ void fci_cycles_free(fci_run *R)
 {
   fc_free(R->c_open); fc_free(R->c_dpmax); fc_free(R->c_dpmin); fc_free(R->c_qmax);
   fc_free(R->c_qmin); fc_free(R->c_pmin); fc_free(R->c_pmax); fc_free(R->mode_el);
-  fc_free(R->win_start); fc_free(R->win_count);
+  fc_free(R->win_start); fc_free(R->win_count); fc_free(R->ph1); fc_free(R->ph2);
+}
+
+/* Extremes between step ends. Step ends are where the integrator's error control holds, but
+ * a smooth peak usually falls inside a step, and the largest step-end value then misses it by
+ * about p'' h^2 / 8. When the middle one of three successive step-end pressures (t2, p2),
+ * (t1, p1), (t, p) is a strict local extreme, the vertex of the parabola through the three lies
+ * in (t2, t) and misses the peak only by O(h^3) times the third derivative; it is taken as a
+ * candidate extreme of the current cycle and of the run. Not done across a restart at t1 (mode
+ * switch, waveform corner, cycle boundary), where the slope may jump and the extreme is the
+ * step end itself. */
+static void refine_extremes(fci_run *R, double t)
+{
+  const fci_sys *s = R->sys;
+  fc_sim_result *r = R->res;
+  int kink = r->stats.restarts != R->restarts_seen;
+  R->restarts_seen = r->stats.restarts;
+  if (R->nhist > 0 && t <= R->th1) return; /* the same point again */
+  if (R->nhist == 2 && !kink) {
+    double h2 = R->th1 - R->th2, h1 = t - R->th1;
+    for (int n = 0; n < s->nN; n++) {
+      double a = R->ph2[n], b = R->ph1[n], c = s->p[n];
+      if (!((b > a && b > c) || (b < a && b < c))) continue;
+      /* Divided differences: slopes of the two chords, and k, half the curvature. */
+      double m2 = (b - a) / h2, m1 = (c - b) / h1, k = (m1 - m2) / (h1 + h2);
+      if (k == 0) continue;
+      /* The parabola b + m d + k d^2 in d = tau - t1, m its slope at t1. */
+      double m = m2 + k * h2, d = -m / (2 * k), v = b + m * d + k * d * d;
+      if (!(d > -h2 && d < h1) || !isfinite(v)) continue;
+      if (v > R->c_pmax[n]) R->c_pmax[n] = v;
+      if (v < R->c_pmin[n]) R->c_pmin[n] = v;
+      if (v > r->p_max[n]) r->p_max[n] = v;
+      if (v < r->p_min[n]) r->p_min[n] = v;
+    }
+  }
+  double *tmp = R->ph2;
+  R->ph2 = R->ph1;
+  R->ph1 = tmp;
+  memcpy(R->ph1, s->p, (size_t)s->nN * sizeof *s->p);
+  R->th2 = R->th1;
+  R->th1 = t;
+  R->nhist = kink ? 1 : (R->nhist < 2 ? R->nhist + 1 : 2);
 }
 
 static void accumulate(fci_run *R, double t)
@@ -123,6 +167,7 @@ static void close_cycle(fci_run *R, const double *yq)
 void fci_cycles_step(fci_run *R, double t, const double *yq)
 {
   double T = R->net->sim.cycle_period;
+  refine_extremes(R, t);
   accumulate(R, t);
   if (!(T > 0) || t < R->next_cycle * (1 - 1e-12)) return;
   int cap = (int)floor(R->net->sim.duration / T + 1e-9);

@@ -31,6 +31,10 @@ typedef struct fci_run {
   double *c_open, *c_dpmax, *c_dpmin, *c_qmax, *c_qmin; /* per element */
   double *c_pmin, *c_pmax;   /* per node */
   double t_prev;             /* end of the previous internal step */
+  double *ph1, *ph2;         /* per node: pressure at the last and the second-last step end */
+  double th1, th2;           /* their times */
+  int nhist;                 /* step ends in the history (0, 1, 2) */
+  long restarts_seen;        /* stats.restarts at the last step end (a restart = slope kink) */
   int *mode_el;              /* elements with modes (nRoot > 0) */
   int nmode;
   double *win_start;         /* chatter window start per element */

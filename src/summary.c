@@ -91,6 +91,11 @@ char *fc_summary_json(const fc_net *net, const fc_sim_result *r)
     cJSON_AddNumberToObject(st, "lin_iters", (double)s->lin_iters);
     cJSON_AddNumberToObject(st, "events", (double)s->events);
     cJSON_AddNumberToObject(st, "restarts", (double)s->restarts);
+    cJSON_AddNumberToObject(st, "nonlin_iters", (double)s->nonlin_iters);
+    cJSON_AddNumberToObject(st, "err_test_fails", (double)s->err_test_fails);
+    cJSON_AddNumberToObject(st, "conv_fails", (double)s->conv_fails);
+    cJSON_AddNumberToObject(st, "root_evals", (double)s->root_evals);
+    cJSON_AddNumberToObject(st, "factorizations", (double)s->factorizations);
     cJSON_AddNumberToObject(st, "wall_seconds", s->wall_seconds);
   }
   fci_summary_json_cycles(root, net, r);

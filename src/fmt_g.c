@@ -1,0 +1,123 @@
+/* ferrocirc — "%.9g" without printf, for the time-series CSV.
+ *
+ * Why: glibc's printf converts through its general multi-precision path, about 4-5 M numbers
+ * per second here; a CSV of 10^6 rows x 100 columns then takes longer to write than to
+ * simulate. The output must stay byte for byte what "%.9g" gives (the CSV format, and the
+ * tests that compare CSV bytes, rely on it), so this is the same conversion, done fast where
+ * it is provably exact and by snprintf where it is not.
+ *
+ * Method. For finite v != 0 with |v| = d, let X = floor(log10 d) and s = d 10^(8 - X), so
+ * 10^8 <= s < 10^9 and "%.9g" prints round-half-even(s) as 9 digits with exponent X (X + 1 if
+ * s rounds up to 10^9). For |8 - X| <= 22, 10^(8-X) is exact in double and s = d * 10^k or
+ * d / 10^-k is one correctly rounded operation: error below 2^-53 x 10^9 = 1.2e-7. Otherwise s
+ * is formed in x87 extended precision (64-bit significand) from a product of at most nine
+ * powers 10^(2^i), each a correctly rounded literal (relative error below 20 x 2^-64), and
+ * rounded to double: error below 1.3e-7. Whenever the fraction of the computed s is within
+ * 1e-6 of 1/2 (a tie, or too close to one to decide), snprintf does the conversion instead, so
+ * the rounding is always the exact one. Non-finite values, zero, and |8 - X| > 22 on platforms
+ * without a 64-bit long double significand go to snprintf as well.
+ * The %g rule (C11 7.21.6.1): exponent form if X < -4 or X >= precision (9), else fixed; then
+ * trailing zeros, and a trailing decimal point, are removed; the exponent has at least two
+ * digits. tests/test_fmt.c compares with snprintf on millions of values. */
+#include <float.h>
+#include <math.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "fmt_g.h"
+
+static int slow(char *buf, double v)
+{
+  return snprintf(buf, FCI_FMT_G9_MAX, "%.9g", v);
+}
+
+/* 10^k, k = 0..22: exact in double. */
+static const double p10[23] = {1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11,
+                               1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
+
+#if LDBL_MANT_DIG >= 64
+/* 10^(2^i), i = 0..8; literals are rounded correctly by the compiler. */
+static const long double pow2k[9] = {1e1L, 1e2L, 1e4L, 1e8L, 1e16L, 1e32L, 1e64L, 1e128L, 1e256L};
+#endif
+
+/* s = d 10^k (s < 10^9 where it matters) and whether it could be formed: in double when 10^k
+ * is exact (one rounding, error below 2^-53 s <= 1.2e-7), else in extended precision and then
+ * rounded to double (error below 1.1e-9 + 1.2e-7), else not (returns 0). */
+static int scale(double d, int k, double *s)
+{
+  if (k >= 0 && k <= 22) { *s = d * p10[k]; return 1; }
+  if (k < 0 && k >= -22) { *s = d / p10[-k]; return 1; }
+#if LDBL_MANT_DIG >= 64
+  long double p = 1.0L;
+  for (int i = 0, m = k < 0 ? -k : k; m; i++, m >>= 1)
+    if (m & 1) p *= pow2k[i];
+  long double x = k >= 0 ? (long double)d * p : (long double)d / p;
+  *s = (double)x; /* one more rounding: below 1.2e-7 + 1.1e-9 in all */
+  return 2;
+#else
+  (void)s;
+  return 0;
+#endif
+}
+
+/* Writes the digits of r (exactly 9, r in [10^8, 10^9)) with decimal exponent X, %g style. */
+static int layout(char *buf, int neg, uint32_t r, int X)
+{
+  char dig[9];
+  for (int i = 8; i >= 0; i--) { dig[i] = (char)('0' + r % 10); r /= 10; }
+  int nd = 9;
+  while (nd > 1 && dig[nd - 1] == '0') nd--;
+  char *o = buf;
+  if (neg) *o++ = '-';
+  if (X < -4 || X >= 9) {
+    *o++ = dig[0];
+    if (nd > 1) {
+      *o++ = '.';
+      for (int i = 1; i < nd; i++) *o++ = dig[i];
+    }
+    *o++ = 'e';
+    *o++ = X < 0 ? '-' : '+';
+    int ax = X < 0 ? -X : X;
+    if (ax >= 100) *o++ = (char)('0' + ax / 100);
+    *o++ = (char)('0' + ax / 10 % 10);
+    *o++ = (char)('0' + ax % 10);
+  } else if (X >= 0) {
+    for (int i = 0; i <= X; i++) *o++ = dig[i];
+    if (nd > X + 1) {
+      *o++ = '.';
+      for (int i = X + 1; i < nd; i++) *o++ = dig[i];
+    }
+  } else {
+    *o++ = '0';
+    *o++ = '.';
+    for (int i = 0; i < -X - 1; i++) *o++ = '0';
+    for (int i = 0; i < nd; i++) *o++ = dig[i];
+  }
+  *o = '\0';
+  return (int)(o - buf);
+}
+
+int fci_fmt_g9(char *buf, double v)
+{
+  if (!isfinite(v) || v == 0) return slow(buf, v);
+  int neg = signbit(v) != 0, e2;
+  double d = fabs(v), s;
+  uint64_t bits;
+  memcpy(&bits, &d, sizeof bits);
+  e2 = (int)(bits >> 52) - 1022; /* d in [2^(e2-1), 2^e2), as frexp gives */
+  if (e2 == -1022) (void)frexp(d, &e2); /* subnormal */
+  /* floor((e2 - 1) log10 2) with log10 2 ~ 1233/4096: X or one off either way */
+  int X = (e2 - 1) * 1233;
+  X = X >= 0 ? X / 4096 : -((-X + 4095) / 4096);
+  if (!scale(d, 8 - X, &s)) return slow(buf, v);
+  if (s >= 1e9) { X++; if (!scale(d, 8 - X, &s)) return slow(buf, v); }
+  if (s < 1e8 - 0.5) { X--; if (!scale(d, 8 - X, &s)) return slow(buf, v); }
+  if (!(s >= 1e8 - 0.5 && s < 1e9)) return slow(buf, v);
+  uint32_t fl = (uint32_t)s;
+  double frac = s - (double)fl; /* exact: s < 2^30 */
+  if (fabs(frac - 0.5) < 1e-6) return slow(buf, v);
+  uint32_t r = fl + (frac > 0.5);
+  if (r >= 1000000000u) { r = 100000000u; X++; }
+  return layout(buf, neg, r, X);
+}
