@@ -6,8 +6,8 @@
  * --monte-carlo` samples it (normal, tolerance = 2 sigma: include/ferrocirc/units.h). A
  * "calibration" block records the data file, the UTC date, the method, the parameters with
  * their standard errors, covariance and correlation (SI), chi-square, and the residual and
- * leave-one-out error of every value. The design parser ignores that block. Monte Carlo samples
- * the parameters independently: their correlation is recorded but not carried. */
+ * leave-one-out error of every value. The design parser ignores that block; the Monte Carlo
+ * draws the fitted values jointly from its covariance (src/study/mc_joint.c). */
 #define _POSIX_C_SOURCE 200809L /* strtok_r, gmtime_r */
 #include <cjson/cJSON.h>
 #include <math.h>
@@ -125,9 +125,10 @@ static cJSON *calibration_block(const fci_cal_model *m, const fci_cal_fit *f, co
   cJSON_AddNumberToObject(c, "reduced_chi_square", f->redchi2);
   cJSON_AddItemToObject(c, "residuals", residual_list(d, f, loo));
   cJSON_AddStringToObject(c, "note", "Fitted values appear in the design as toleranced values "
-                          "(tolerance = 2 standard errors, normal) for ferrocirc sweep "
-                          "--monte-carlo, which samples them independently: the correlation "
-                          "above is not carried. Ignored by the valve model.");
+                          "(tolerance = 2 standard errors, normal). ferrocirc sweep --monte-carlo "
+                          "draws them jointly from the covariance above, one draw per sample "
+                          "shared by every valve with this calibration. Ignored by the valve "
+                          "model.");
   return c;
 }
 

@@ -25,8 +25,8 @@ if [ -n "${2:-}" ]; then W=$2; mkdir -p "$W"; KEEP=1; else W=$(mktemp -d "${TMPD
 W=$(cd "$W" && pwd)
 
 SAN="-fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer"
-CFLAGS="-std=c11 -g -O1 $SAN -fsanitize=fuzzer-no-link -I$SRC/include -I$SRC/src -I$SRC/elements -I/usr/include/suitesparse"
-LIBS="-lsundials_cvodes -lsundials_nvecserial -lsundials_sunlinsolspgmr -lklu -lcjson -ludunits2 -lm"
+CFLAGS="-std=c11 -g -O1 $SAN -fsanitize=fuzzer-no-link -I$SRC/include -I$SRC/src -I$SRC/elements -I/usr/include/suitesparse -I/usr/include/cminpack-1"
+LIBS="-lsundials_cvodes -lsundials_nvecserial -lsundials_sunlinsolspgmr -lklu -lcjson -lcminpack -ludunits2 -lm"
 
 # ---- build ----
 echo "build_and_run: compiling the project with $($CC --version | head -n 1) in $W"
