@@ -27,6 +27,7 @@ typedef struct run_io {
   fc_csv_sink *sink;
   int write_errno;    /* errno of the first failed write during the run, 0 if none */
   fc_outfile *failed; /* the output that write went to */
+  double fail_t;      /* simulated time of that write [s] */
   const fc_net *net;
   double pf;
   double next_show;   /* wall-clock time of the next progress line [s] */
@@ -93,6 +94,7 @@ static int on_event(void *ctx, double t, int elem, int a, int b, double dp)
     return 0;
   io->write_errno = errno ? errno : EIO;
   io->failed = io->events;
+  io->fail_t = t;
   return 1;
 }
 
@@ -109,6 +111,7 @@ static int sample(void *ctx, double t, const double *p, const double *q, const i
   if (bad && !io->write_errno) {
     io->write_errno = errno ? errno : EIO;
     io->failed = io->csv;
+    io->fail_t = t;
   }
   return bad;
 }
@@ -171,10 +174,9 @@ static int simulate(fc_net *net, const fc_units *u, const run_args *a, fc_error 
     fc_sim_sink sink = {&io, io.sink ? sample : NULL, on_event, show ? progress : NULL};
     rc = fc_sim_run(net, &sink, &r, err);
     if (rc && io.write_errno) { /* the disk, not the network: name the output, not the input */
-      double t = r ? r->t_end : 0.0;
       fc_error_clear(err);
-      fc_fail(err, FC_EIO, NULL, "writing %s failed near t = %.9g s: %s; no output was written",
-              fc_outfile_path(io.failed), t, strerror(io.write_errno));
+      fc_fail(err, FC_EIO, NULL, "writing %s failed at t = %.9g s: %s; no output was written",
+              fc_outfile_path(io.failed), io.fail_t, strerror(io.write_errno));
     } else if (rc && rc != FC_EINTR) fc_error_set_file(err, net->file, 0, 0);
   }
   rc = finish_outputs(&io, a, rc, net, r, err);
