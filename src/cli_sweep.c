@@ -97,7 +97,14 @@ static int run(const sweep_args *a, const fc_units *u, fc_error *err)
   if (!rc && a->mc && a->nshard == 1 && !a->quiet) {
     FILE *in = fopen(a->out, "r");
     if (in) {
-      printf("Monte Carlo, %ld samples, seed %llu, %d toleranced values\n", S.npoints, a->seed, S.np);
+      int nfit = 0, ndef = 0, ncal = fci_mc_joint_groups(S.joint, &nfit, &ndef);
+      printf("Monte Carlo, %ld samples, seed %llu, %d toleranced values", S.npoints, a->seed, S.np);
+      if (ncal) printf(" (%d fitted values of %d calibration%s drawn jointly from the covariance)",
+                       nfit, ncal, ncal > 1 ? "s" : "");
+      printf("\n");
+      if (ndef)
+        printf("note: %d calibration%s ha%s a semi-definite covariance: a direction the bench data "
+               "did not determine is not varied\n", ndef, ndef > 1 ? "s" : "", ndef > 1 ? "ve" : "s");
       rc = fci_study_stats(in, S.nlimit, S.limit_name, S.limit_value, stdout, err);
       fclose(in);
     }
