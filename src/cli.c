@@ -36,7 +36,8 @@ static const char usage[] =
   "                       SVG pictures of results\n"
   "  schematic NETWORK.json -o OUT.dot\n"
   "                       the circuit as a Graphviz graph (render: dot -Tsvg OUT.dot)\n"
-  "Exit status: 0 ok, 1 other failure (I/O), 2 bad input or usage, 3 integrator failure.\n";
+  "Exit status: 0 ok, 1 other failure (I/O), 2 bad input or usage, 3 integrator failure,\n"
+  "130/143 stopped by SIGINT/SIGTERM (outputs removed, or kept as .partial with --keep-partial).\n";
 
 int fci_cli_report(const fc_error *err)
 {

@@ -56,9 +56,13 @@ static void progress(void *ctx, double t)
   if (t >= end * (1 - 1e-12)) fputc('\n', stderr);
 }
 
+/* The shell convention for a process ended by a signal: status 128 + its number (130 for
+ * SIGINT, 143 for SIGTERM), so scripts around ferrocirc can tell which one it was. */
+static volatile sig_atomic_t caught_signal = 0;
+
 static void on_signal(int sig)
 {
-  (void)sig;
+  caught_signal = sig;
   fc_sim_request_stop();
 }
 
@@ -201,7 +205,7 @@ static int run_common(const run_args *a, const char *buf, size_t len)
                     : fc_net_load(a->network, u, &net, &err);
   if (!rc) rc = simulate(net, u, a, &err);
   int status = rc ? fci_cli_report(&err) : 0;
-  if (rc == FC_EINTR) status = 130;
+  if (rc == FC_EINTR) status = 128 + (caught_signal ? (int)caught_signal : SIGINT);
   fc_net_free(net);
   fc_units_free(u);
   return status;

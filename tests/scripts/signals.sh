@@ -76,8 +76,8 @@ fi
 # ---- SIGTERM: the same clean-up, a failure status ----
 interrupt sigterm TERM
 if [ "$STATUS" != -1 ]; then
-  [ "$STATUS" != 0 ] && [ "$STATUS" != 137 ] ||
-    fail sigterm "exit status $STATUS, expected a failure status from ferrocirc itself"
+  [ "$STATUS" = 143 ] ||
+    fail sigterm "exit status $STATUS, expected 143 (128 + SIGTERM, the shell convention)"
   left=$(ls -A "$OUT" | grep -v '^stderr$')
   [ -z "$left" ] || fail sigterm "outputs left after SIGTERM: $left"
   no_temporaries sigterm "$OUT"
