@@ -1,4 +1,5 @@
 /* ferrocirc — command-line dispatch and `check`. */
+#include <errno.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -38,6 +39,18 @@ static const char usage[] =
   "                       the circuit as a Graphviz graph (render: dot -Tsvg OUT.dot)\n"
   "Exit status: 0 ok, 1 other failure (I/O), 2 bad input or usage, 3 integrator failure,\n"
   "130/143 stopped by SIGINT/SIGTERM (outputs removed, or kept as .partial with --keep-partial).\n";
+
+int fci_cli_long(const char *opt, const char *text, long lo, long hi, long *out, fc_error *err)
+{
+  char *end;
+  errno = 0;
+  long v = strtol(text, &end, 10);
+  if (end == text || *end || errno || v < lo || v > hi)
+    return fc_fail(err, FC_EUSAGE, NULL, "%s expects an integer from %ld to %ld, got \"%s\"", opt,
+                   lo, hi, text);
+  *out = v;
+  return FC_OK;
+}
 
 int fci_cli_report(const fc_error *err)
 {

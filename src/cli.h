@@ -11,6 +11,8 @@ int fci_cli_demo(int argc, char **argv);  /* "demo" */
 int fci_cli_check(int argc, char **argv); /* "check" */
 int fci_cli_sweep(int argc, char **argv); /* "sweep" (src/cli_sweep.c) */
 int fci_cli_merge(int argc, char **argv); /* "merge" */
+/* Parse the value of option opt as a whole decimal integer in [lo, hi]; FC_EUSAGE otherwise. */
+int fci_cli_long(const char *opt, const char *text, long lo, long hi, long *out, fc_error *err);
 /* Print err to stderr as "ferrocirc: FILE:LINE:COL: PATH: MESSAGE"; returns its exit status. */
 int fci_cli_report(const fc_error *err);
 /* The embedded demo network (src/demo.c). */

@@ -7,6 +7,7 @@
  * Inside a SLURM array job (SLURM_ARRAY_TASK_ID, SLURM_ARRAY_TASK_COUNT, SLURM_ARRAY_TASK_MIN)
  * the shard is taken from the environment unless --shard is given. */
 #define _POSIX_C_SOURCE 200809L
+#include <errno.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -53,11 +54,23 @@ static int parse(int argc, char **argv, sweep_args *a, fc_error *err)
       a->steps[a->nvary] = -1;
       a->vary[a->nvary++] = v;
     } else if (!strcmp(s, "--steps")) {
-      last_steps = atoi(v);
+      long n;
+      if (fci_cli_long(s, v, 1, 1000000, &n, err)) return FC_EUSAGE;
+      last_steps = (int)n;
       for (int k = 0; k < a->nvary; k++) if (a->steps[k] < 0) a->steps[k] = last_steps;
-    } else if (!strcmp(s, "--jobs")) a->jobs = atoi(v);
-    else if (!strcmp(s, "--monte-carlo")) a->mc = atol(v);
-    else if (!strcmp(s, "--seed")) a->seed = strtoull(v, NULL, 10);
+    } else if (!strcmp(s, "--jobs")) {
+      long n;
+      if (fci_cli_long(s, v, 1, 4096, &n, err)) return FC_EUSAGE;
+      a->jobs = (int)n;
+    } else if (!strcmp(s, "--monte-carlo")) {
+      if (fci_cli_long(s, v, 1, 100000000, &a->mc, err)) return FC_EUSAGE;
+    } else if (!strcmp(s, "--seed")) {
+      char *end;
+      errno = 0;
+      a->seed = strtoull(v, &end, 10);
+      if (end == v || *end || errno || v[0] == '-')
+        return fc_fail(err, FC_EUSAGE, NULL, "--seed expects a non-negative integer, got \"%s\"", v);
+    }
     else if (!strcmp(s, "--shard")) {
       if (sscanf(v, "%d/%d", &a->shard, &a->nshard) != 2 || a->nshard < 1 || a->shard < 0 ||
           a->shard >= a->nshard)

@@ -48,9 +48,9 @@ static int parse_args(int argc, char **argv, args *a)
     else if (!strcmp(s, "--vary") && more) a->vary = argv[++i];
     else if (!strcmp(s, "-o") && more) a->out = argv[++i];
     else if (!strcmp(s, "--steps") && more) {
-      char *end;
-      long n = strtol(argv[++i], &end, 10);
-      if (*end || n < 2 || n > 100000) return usage("--steps expects an integer from 2 to 100000");
+      long n;
+      fc_error e;
+      if (fci_cli_long(s, argv[++i], 2, 100000, &n, &e)) return usage(e.msg);
       a->steps = (int)n;
     } else if (s[0] == '-' && s[1]) {
       char m[300];

@@ -48,9 +48,9 @@ static int parse_args(int argc, char **argv, targs *a)
     }
     if (slot) *slot = argv[++i];
     else if (!strcmp(s, "--steps")) {
-      char *end;
-      long n = strtol(argv[++i], &end, 10);
-      if (*end || n < 2 || n > 10000) return usage("--steps expects an integer from 2 to 10000");
+      long n;
+      fc_error e;
+      if (fci_cli_long(s, argv[++i], 2, 10000, &n, &e)) return usage(e.msg);
       a->steps = (int)n;
     } else if (s[0] == '-' && s[1]) {
       char m[300];

@@ -85,6 +85,12 @@ expect 2 "unknown command" -- frobnicate
 expect 2 "usage" --
 expect 2 "" -- run good.json --pressure-unit kg -o out.csv
 no_leftovers "a wrong report unit"
+# numeric options are read whole: "3x" or 0 is an error, not 3 or a silent default
+expect 2 'monte-carlo expects an integer from 1 to 100000000, got "3x"' -- sweep good.json --monte-carlo 3x -o out.csv
+expect 2 'steps expects an integer from 1 to 1000000, got "0"' -- sweep good.json --vary 'elements[R].length=5mm..10mm' --steps 0 -o out.csv
+expect 2 'jobs expects an integer from 1 to 4096, got "two"' -- sweep good.json --vary 'elements[R].length=5mm..10mm' --jobs two -o out.csv
+expect 2 'seed expects a non-negative integer, got "-1"' -- sweep good.json --monte-carlo 5 --seed -1 -o out.csv
+no_leftovers "bad numeric options"
 
 # an output folder that does not exist: I/O -> 1
 expect 1 "cannot create output" -- run good.json -o no_dir/out.csv
