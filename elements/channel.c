@@ -69,6 +69,16 @@ static int parse_section(channel_param *P, const cJSON *obj, const char *path,
   return rc;
 }
 
+/* A lumped channel is between 1 nm and 1 km in every dimension: outside that the formulas
+ * below over- or underflow (a 1e-304 m bore has an area of 0) long before physics ends. */
+static int check_size(double v, const char *key, const char *path, fc_error *err)
+{
+  char kp[320];
+  if (v == 0.0 || (v >= 1e-9 && v <= 1e3)) return FC_OK; /* 0: that form was not given */
+  return fc_fail(err, FC_EPARAM, fci_path_key(kp, sizeof kp, path, key),
+                 "%g m is outside the range of a lumped channel; expected 1 nm to 1 km", v);
+}
+
 /* R, Lh and the shear factor from the geometry (src/hydraulics.c for the sources). */
 static void derive(channel_param *P, double rho)
 {
@@ -95,12 +105,19 @@ static int channel_parse(fc_elem *e, const struct cJSON *obj, const char *path,
   int rc = fci_get_quantity(obj, "length", FC_DIM_LENGTH, 1, 0.0, FCI_POS, &P->length, path,
                             ctx, err);
   if (!rc) rc = parse_section(P, obj, path, ctx, err);
+  static const char *const dims[] = {"length", "diameter", "width", "height"};
+  const double *vals[] = {&P->length, &P->diameter, &P->width, &P->height};
+  for (int k = 0; k < 4 && !rc; k++) rc = check_size(*vals[k], dims[k], path, err);
   if (!rc) rc = fci_get_quantity(obj, "viscosity", FC_DIM_VISCOSITY, 0, ctx->fluid->viscosity,
                                  FCI_POS, &P->mu, path, ctx, err);
   if (!rc) rc = fci_get_bool(obj, "inertance", 0, &P->inertial, path, err);
   if (!rc) rc = fci_get_bool(obj, "culture", 0, &e->culture, path, err);
   if (rc) return rc;
   derive(P, ctx->fluid->density);
+  /* Extreme but in-range values (a viscosity of 1e300 Pa s) can still overflow R. */
+  if (!(isfinite(P->R) && P->R > 0 && isfinite(P->Lh) && isfinite(P->shear)))
+    return fc_fail(err, FC_EPARAM, path, "the channel's resistance (%g Pa.s/m3) is not a finite "
+                   "positive number; expected a geometry and viscosity of a real channel", P->R);
   e->role = FC_ROLE_FLOW;
   e->nState = P->inertial ? 1 : 0;
   return FC_OK;
