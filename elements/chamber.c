@@ -68,7 +68,15 @@ static int parse_tube(chamber_param *P, const cJSON *tube, const char *tp,
   if (!(nu > -1.0 && nu <= 0.5)) /* bounds of an isotropic elastic solid */
     return fc_fail(err, FC_EPARAM, fci_path_key(kp, sizeof kp, tp, "poisson_ratio"),
                    "must be in (-1, 0.5], got %g", nu);
+  /* A wall thinner than the rounding of the radius (b == a in doubles) has no Lame solution;
+   * a compliance that over- or underflows is no chamber either. */
+  if (!(d / 2 + t > d / 2))
+    return fc_fail(err, FC_EPARAM, fci_path_key(kp, sizeof kp, tp, "wall_thickness"),
+                   "%g m is too thin beside a %g m bore to compute; expected a real wall", t, d);
   P->C = fc_hyd_tube_compliance_thick(d / 2, d / 2 + t, E, nu, L);
+  if (!(isfinite(P->C) && P->C > 0))
+    return fc_fail(err, FC_EPARAM, tp, "the tube's compliance (%g m3/Pa) is not a finite positive "
+                   "number; expected the sizes and modulus of a real tube", P->C);
   return FC_OK;
 }
 
