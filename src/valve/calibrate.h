@@ -11,7 +11,7 @@
  *
  * Fit (calibrate_fit.c): weighted least squares, r_k = (model_k - measured_k) / sigma_k,
  * minimised by MINPACK's Levenberg-Marquardt with a forward-difference Jacobian (lmdif; Moré
- * 1978, Lecture Notes in Math. 630:105; cminpack). Bounds by the sine transform of MINUIT
+ * 1978, Lect. Notes Math. 630:105; cminpack). Bounds by the sine transform
  * (James & Roos 1975, Comput. Phys. Commun. 10:343): theta = lo + (hi - lo)(1 + sin u)/2.
  * Covariance from a central-difference Jacobian J in the physical parameters at the optimum:
  * C = (J^T J)^-1 when sigmas are given, C = s^2 (J^T J)^-1 with s^2 = chi^2/(n - p) when not

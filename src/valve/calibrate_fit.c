@@ -3,7 +3,7 @@
  * Minimiser: MINPACK lmdif (Levenberg-Marquardt with a trust region and forward-difference
  * Jacobian; Moré 1978) from cminpack, on internal variables u:
  *   unbounded  theta = theta0 (1 + u)                (u is a relative change; theta0 != 0)
- *   bounded    theta = lo + (hi - lo)(1 + sin u) / 2 (MINUIT's transform, James & Roos 1975)
+ *   bounded    theta = lo + (hi - lo)(1 + sin u) / 2 (the sine transform of James & Roos 1975)
  * so that lmdif sees variables of order one and never leaves the bounds. The sine transform
  * flattens the objective at a bound (d theta / du = 0 there): a value that ends at a bound is
  * reported as such and its standard error is not meaningful.
