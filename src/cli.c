@@ -52,6 +52,17 @@ int fci_cli_long(const char *opt, const char *text, long lo, long hi, long *out,
   return FC_OK;
 }
 
+int fci_cli_with_units(int (*body)(const void *args, const fc_units *u), const void *args)
+{
+  fc_units *u = NULL;
+  fc_error e;
+  fc_error_clear(&e);
+  if (fc_units_open(&u, &e)) return fci_cli_report(&e);
+  int st = body(args, u);
+  fc_units_free(u);
+  return st;
+}
+
 int fci_cli_report(const fc_error *err)
 {
   char buf[1400];

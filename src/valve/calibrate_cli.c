@@ -84,16 +84,16 @@ static int run(const args *a, const fc_units *u, fc_error *e)
   return rc;
 }
 
+static int run_main(const void *argp, const fc_units *u)
+{
+  fc_error e;
+  fc_error_clear(&e);
+  return run(argp, u, &e) ? fci_cli_report(&e) : 0;
+}
+
 int fci_cal_cli(int argc, char **argv)
 {
   args a;
   int st = parse_args(argc, argv, &a);
-  if (st) return st;
-  fc_units *u = NULL;
-  fc_error e;
-  fc_error_clear(&e);
-  if (fc_units_open(&u, &e)) return fci_cli_report(&e);
-  st = run(&a, u, &e) ? fci_cli_report(&e) : 0;
-  fc_units_free(u);
-  return st;
+  return st ? st : fci_cli_with_units(run_main, &a);
 }

@@ -145,8 +145,9 @@ static int write_profile(const fc_valve_design *d, const char *file)
   return e.code ? fci_cli_report(&e) : 0;
 }
 
-static int run(const args *a, fc_units *u)
+static int run(const void *argp, const fc_units *u)
 {
+  const args *a = argp;
   fc_error e;
   fc_valve_design *d = NULL;
   fc_valve_pressures p;
@@ -173,12 +174,5 @@ int fc_valve_cli(int argc, char **argv)
     if (!strcmp(argv[i], "--target")) return fci_valve_target_cli(argc, argv);
   args a;
   int st = parse_args(argc, argv, &a);
-  if (st) return st;
-  fc_units *u = NULL;
-  fc_error e;
-  fc_error_clear(&e);
-  if (fc_units_open(&u, &e)) return fci_cli_report(&e);
-  st = run(&a, u);
-  fc_units_free(u);
-  return st;
+  return st ? st : fci_cli_with_units(run, &a);
 }

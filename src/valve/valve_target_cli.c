@@ -237,8 +237,9 @@ static void json_report(const fci_target_spec *s, const fci_target_result *r)
   cJSON_Delete(o);
 }
 
-static int run(const targs *a, const fc_units *u)
+static int run(const void *args, const fc_units *u)
 {
+  const targs *a = args;
   fc_error e;
   fc_valve_design *d = NULL;
   fci_target_spec s = {.key = a->adjust, .steps = a->steps};
@@ -267,12 +268,5 @@ int fci_valve_target_cli(int argc, char **argv)
 {
   targs a;
   int st = parse_args(argc, argv, &a);
-  if (st) return st;
-  fc_units *u = NULL;
-  fc_error e;
-  fc_error_clear(&e);
-  if (fc_units_open(&u, &e)) return fci_cli_report(&e);
-  st = run(&a, u);
-  fc_units_free(u);
-  return st;
+  return st ? st : fci_cli_with_units(run, &a);
 }
