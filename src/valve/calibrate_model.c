@@ -22,7 +22,9 @@ int fci_cal_row_error(fc_error *err, const fci_cal_data *d, int line, const char
 {
   char msg[sizeof err->msg + 320];
   int code = err->code ? err->code : FC_EPARAM;
-  snprintf(msg, sizeof msg, "%s: %s", what, err->msg);
+  /* A message too long for the error is cut, on purpose: the row and path still locate it. */
+  if (snprintf(msg, sizeof msg, "%s: %s", what, err->msg) >= (int)sizeof msg)
+    msg[sizeof msg - 1] = '\0';
   fc_error_clear(err);
   fc_fail(err, code, path, "%s", msg);
   fc_error_set_file(err, d->file, line, 1);

@@ -233,7 +233,7 @@ static int nearest(evalctx *c, double a, double b, fci_target_point *best)
 static int refine(evalctx *c, double x0, double x1, double f0, double f1, double scale,
                   fci_target_result *r)
 {
-  double root, froot;
+  double root = 0.5 * (x0 + x1), froot = NAN; /* what a failed refinement reports */
   int it, ok;
   if (r->nroot == FCI_TARGET_MAX_ROOTS) return r->nmore++, FC_OK;
   int rc = fci_brent(mismatch, c, x0, x1, f0, f1, 1e-10 * (c->s->hi - c->s->lo), 200, &root,
