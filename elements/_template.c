@@ -58,6 +58,18 @@ static void template_flow(const fc_elem *e, double t, const double p[2], const d
   out->dq_dpb = -1.0 / P->R;
 }
 
+/* Optional: the same law as constant coefficients, q = k[0] + k[1] p(from) + k[2] p(to), so
+ * that the engine can evaluate large networks from contiguous arrays. Return 0 where the law
+ * depends on t, on own states or is nonlinear. */
+static int template_linear(const fc_elem *e, double k[3])
+{
+  const template_param *P = e->param;
+  k[0] = 0;
+  k[1] = 1.0 / P->R;
+  k[2] = -1.0 / P->R;
+  return 1;
+}
+
 /* One line for `check` and the summary, SI numbers. */
 static void template_info(const fc_elem *e, const fci_fluid *fluid, fci_info *info)
 {
@@ -78,6 +90,7 @@ static const fc_elem_type table = {
   .keys = keys,
   .xParse = template_parse,
   .xFlow = template_flow,
+  .xLinear = template_linear,
   .xInfo = template_info,
 };
 

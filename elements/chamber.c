@@ -178,6 +178,15 @@ static double chamber_volume(const fc_elem *e, double t, double p)
   return fc_hyd_gas_stored(P->V0, P->p0abs, P->pamb, dfl) + compliance_at(P, dfl, &dC) * (dp - dfl);
 }
 
+static int chamber_linear(const fc_elem *e, double k[3])
+{
+  const chamber_param *P = e->param;
+  if (P->kind == KIND_GAS || P->back) return 0;
+  k[0] = P->C;
+  k[1] = k[2] = 0;
+  return 1;
+}
+
 static double chamber_corner(const fc_elem *e, double t)
 {
   const chamber_param *P = e->param;
@@ -209,6 +218,7 @@ static const fc_elem_type table = {
   .xVolume = chamber_volume,
   .xInfo = chamber_info,
   .xCorner = chamber_corner,
+  .xLinear = chamber_linear,
 };
 
 const fc_elem_type *const fci_type_chamber = &table;

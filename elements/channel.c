@@ -123,6 +123,16 @@ static int channel_parse(fc_elem *e, const struct cJSON *obj, const char *path,
   return FC_OK;
 }
 
+static int channel_linear(const fc_elem *e, double k[3])
+{
+  const channel_param *P = e->param;
+  if (P->inertial) return 0;
+  k[0] = 0;
+  k[1] = 1.0 / P->R;
+  k[2] = -1.0 / P->R;
+  return 1;
+}
+
 static void channel_flow(const fc_elem *e, double t, const double p[2], const double *x,
                          fci_flow *out)
 {
@@ -180,6 +190,7 @@ static const fc_elem_type table = {
   .keys = keys,
   .xParse = channel_parse,
   .xFlow = channel_flow,
+  .xLinear = channel_linear,
   .xRhs = channel_rhs,
   .xInfo = channel_info,
 };

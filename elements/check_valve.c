@@ -28,6 +28,11 @@ static void cv_flow(const fc_elem *e, double t, const double p[2], const double 
   fci_valve_law_flow(e->param, e->mode, p, out);
 }
 
+static int cv_linear(const fc_elem *e, double k[3])
+{
+  return fci_valve_law_linear(e->param, e->mode, k);
+}
+
 static void cv_root(const fc_elem *e, double t, const double p[2], const double *x, double *g)
 {
   (void)t; (void)x;
@@ -55,6 +60,7 @@ static const fc_elem_type table = {
   .keys = keys,
   .xParse = cv_parse,
   .xFlow = cv_flow,
+  .xLinear = cv_linear,
   .xRoot = cv_root,
   .xEvent = cv_event,
   .xInfo = cv_info,

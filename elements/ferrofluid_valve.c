@@ -67,6 +67,12 @@ static void ffv_flow(const fc_elem *e, double t, const double p[2], const double
   fci_valve_law_flow(&P->law, e->mode, p, out);
 }
 
+static int ffv_linear(const fc_elem *e, double k[3])
+{
+  const ffv_param *P = e->param;
+  return fci_valve_law_linear(&P->law, e->mode, k);
+}
+
 static void ffv_root(const fc_elem *e, double t, const double p[2], const double *x, double *g)
 {
   const ffv_param *P = e->param;
@@ -97,6 +103,7 @@ static const fc_elem_type table = {
   .keys = keys,
   .xParse = ffv_parse,
   .xFlow = ffv_flow,
+  .xLinear = ffv_linear,
   .xRoot = ffv_root,
   .xEvent = ffv_event,
   .xInfo = ffv_info,

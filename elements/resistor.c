@@ -37,6 +37,15 @@ static void resistor_flow(const fc_elem *e, double t, const double p[2], const d
   out->dq_dpb = -1.0 / P->R;
 }
 
+static int resistor_linear(const fc_elem *e, double k[3])
+{
+  const resistor_param *P = e->param;
+  k[0] = 0;
+  k[1] = 1.0 / P->R;
+  k[2] = -1.0 / P->R;
+  return 1;
+}
+
 static void resistor_info(const fc_elem *e, const fci_fluid *fluid, fci_info *info)
 {
   const resistor_param *P = e->param;
@@ -54,6 +63,7 @@ static const fc_elem_type table = {
   .keys = keys,
   .xParse = resistor_parse,
   .xFlow = resistor_flow,
+  .xLinear = resistor_linear,
   .xInfo = resistor_info,
 };
 

@@ -65,6 +65,16 @@ void fci_valve_law_flow(const fci_valve_law *L, int mode, const double p[2], fci
   out->dq_dpb = -g;
 }
 
+int fci_valve_law_linear(const fci_valve_law *L, int mode, double k[3])
+{
+  fci_flow f;
+  fci_valve_law_flow(L, mode, (const double[2]){0, 0}, &f);
+  k[0] = f.q;
+  k[1] = f.dq_dpa;
+  k[2] = f.dq_dpb;
+  return 1;
+}
+
 void fci_valve_law_roots(const fci_valve_law *L, int mode, const double p[2], double *g)
 {
   double dp = p[0] - p[1];

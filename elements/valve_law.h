@@ -39,6 +39,8 @@ typedef struct fci_valve_law {
 int fci_valve_law_parse(fci_valve_law *L, const struct cJSON *obj, const char *path,
                         const fci_parse_ctx *ctx, int have_design, fc_error *err);
 void fci_valve_law_flow(const fci_valve_law *L, int mode, const double p[2], fci_flow *out);
+/* The law of one mode as constant coefficients (the element types' xLinear). */
+int fci_valve_law_linear(const fci_valve_law *L, int mode, double k[3]);
 void fci_valve_law_roots(const fci_valve_law *L, int mode, const double p[2], double *g);
 int fci_valve_law_event(const fci_valve_law *L, fc_elem *e, double t, const int *found,
                         const double p[2]);

@@ -24,7 +24,7 @@
 
 struct cJSON;
 
-#define FC_ELEM_V 1       /* version of fc_elem_type */
+#define FC_ELEM_V 2       /* version of fc_elem_type */
 #define FCI_MAX_OWN 4     /* most own ODE states one element may have */
 #define FCI_MAX_ROOT 4    /* most event functions one element may have */
 
@@ -134,6 +134,14 @@ struct fc_elem_type {
   /* Optional: the first time > t where the element's forcing has a derivative jump, else
    * +INFINITY (waveform corners); the integrator stops there. */
   double (*xCorner)(const fc_elem *e, double t);
+
+  /* Optional (v2): 1 if the instance's law, in its current mode, is linear with constant
+   * coefficients and no own states, with the coefficients in k; 0 if not. FLOW: q = k[0] +
+   * k[1] p(from) + k[2] p(to) for every t. STORE: stored volume V - V(0) = k[0] p with constant
+   * compliance k[0] > 0 and no injected flow. The engine then evaluates the element from cached
+   * coefficients in contiguous arrays, re-read after every mode switch; xFlow / xStore must agree
+   * with them. */
+  int (*xLinear)(const fc_elem *e, double k[3]);
 };
 
 /* ---- Registry (src/registry.c) ---- */

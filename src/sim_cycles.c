@@ -94,16 +94,10 @@ static void refine_extremes(fci_run *R, double t)
   R->nhist = kink ? 1 : (R->nhist < 2 ? R->nhist + 1 : 2);
 }
 
-static void accumulate(fci_run *R, double t)
+void fci_cycles_extremes(fci_run *R)
 {
   const fci_sys *s = R->sys;
   const fc_net *net = R->net;
-  double dt = t - R->t_prev;
-  for (int k = 0; k < R->nmode; k++) {
-    int i = R->mode_el[k];
-    if (net->elem[i].mode != 0) R->c_open[i] += dt;
-  }
-  R->t_prev = t;
   for (int i = 0; i < s->nE; i++) {
     const fc_elem *e = &net->elem[i];
     if (e->nTerm != 2) continue;
@@ -117,6 +111,18 @@ static void accumulate(fci_run *R, double t)
     if (s->p[n] < R->c_pmin[n]) R->c_pmin[n] = s->p[n];
     if (s->p[n] > R->c_pmax[n]) R->c_pmax[n] = s->p[n];
   }
+}
+
+static void accumulate(fci_run *R, double t)
+{
+  const fc_net *net = R->net;
+  double dt = t - R->t_prev;
+  for (int k = 0; k < R->nmode; k++) {
+    int i = R->mode_el[k];
+    if (net->elem[i].mode != 0) R->c_open[i] += dt;
+  }
+  R->t_prev = t;
+  fci_cycles_extremes(R);
 }
 
 /* Largest change of any element's cycle net volume, relative to the largest such volume. */
@@ -138,23 +144,26 @@ static void close_cycle(fci_run *R, const double *yq)
   fc_sim_result *r = R->res;
   const fc_net *net = R->net;
   int c = r->nCycle, E = net->nElem, N = net->nNode;
+  const fci_steps *S = &R->steps;
   for (int i = 0; i < E; i++) {
     size_t k = (size_t)c * E + i;
-    int o = R->qoff[i];
-    r->cyc_v_net[k] = o >= 0 ? yq[o] - R->vq_cycle[o] : NAN;
-    r->cyc_v_back[k] = o >= 0 ? yq[o + 1] - R->vq_cycle[o + 1] : NAN;
+    int o = R->qoff[i], two = net->elem[i].nTerm == 2;
+    r->cyc_v_net[k] = o >= 0 ? yq[o] - R->vq_cycle[o] : two ? S->cq[i] : NAN;
+    r->cyc_v_back[k] = o >= 0 ? yq[o + 1] - R->vq_cycle[o + 1] : two ? S->cb[i] : NAN;
     r->cyc_open[k] = R->c_open[i];
-    r->cyc_dp_max[k] = o >= 0 ? R->c_dpmax[i] : NAN;
-    r->cyc_dp_min[k] = o >= 0 ? R->c_dpmin[i] : NAN;
-    r->cyc_q_max[k] = o >= 0 ? R->c_qmax[i] : NAN;
-    r->cyc_q_min[k] = o >= 0 ? R->c_qmin[i] : NAN;
+    r->cyc_dp_max[k] = two ? R->c_dpmax[i] : NAN;
+    r->cyc_dp_min[k] = two ? R->c_dpmin[i] : NAN;
+    r->cyc_q_max[k] = two ? R->c_qmax[i] : NAN;
+    r->cyc_q_min[k] = two ? R->c_qmin[i] : NAN;
   }
   for (int n = 0; n < N; n++) {
     size_t k = (size_t)c * N + n;
+    int o = R->qpn[n];
     r->cyc_p_min[k] = R->c_pmin[n];
     r->cyc_p_max[k] = R->c_pmax[n];
-    r->cyc_p_mean[k] = (yq[R->qp + n] - R->vq_cycle[R->qp + n]) / r->cycle_period;
+    r->cyc_p_mean[k] = (o >= 0 ? yq[o] - R->vq_cycle[o] : S->cp[n]) / r->cycle_period;
   }
+  fci_steps_close_cycle(&R->steps, N, E, R->sys->ns);
   r->nCycle++;
   memcpy(R->vq_cycle, yq, (size_t)R->nq * sizeof *yq);
   double tol = net->sim.until_periodic;

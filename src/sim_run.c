@@ -44,30 +44,32 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
       !NEW(R->sign_el, E) || !NEW(R->x0, s->nx) || !NEW(R->v0, s->ns) || alloc_result(R) ||
       fci_cycles_init(R))
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
-  for (int i = 0; i < E; i++) {
-    const fc_elem *e = &net->elem[i];
-    R->qoff[i] = e->nTerm == 2 ? R->nq : -1;
-    if (e->nTerm == 2) R->nq += 2;
-    if (e->type->xCorner) R->corner_el[R->ncorner++] = i;
-  }
   /* Backflow integrals max(-q, 0) have a kink where q changes sign; for the elements whose
    * backflow is reported cycle by cycle (valves, report.elements, culture regions) and for
-   * sources, the sign change is a root, so that no step straddles it. Elsewhere the kink is
-   * integrated under the quadrature error control alone (locating every sign change of a large
-   * tree would stop the integrator far more often than the physics needs). */
+   * sources, the sign change is a root, so that no step straddles it, and their volumes are
+   * error-controlled CVODES quadratures. So is the pressure of every imposed node: its
+   * integral holds the step to the forcing where no state does (a network without compliance).
+   * Every other element and node is integrated from the dense output (src/sim_steps.c), which
+   * splits each step at its flow's sign changes (locating every sign change of a large tree by
+   * a root would stop the integrator far more often than the physics needs). */
   for (int i = 0; i < E; i++) {
     const fc_elem *e = &net->elem[i];
+    /* Only elements with a corner somewhere: a chamber without a driven backing has none, and
+     * asking each of 25 000 of them at every step cost 5 % of a large run. */
+    if (e->type->xCorner && e->type->xCorner(e, 0.0) < INFINITY) R->corner_el[R->ncorner++] = i;
     int tracked = e->nRoot > 0 || e->culture || e->type->xCorner;
     for (int k = 0; !tracked && k < net->report.nTrack; k++) tracked = net->report.track[k] == i;
+    R->qoff[i] = e->nTerm == 2 && tracked ? R->nq : -1;
+    if (R->qoff[i] >= 0) R->nq += 2;
     if (e->nTerm == 2 && e->role == FC_ROLE_FLOW && tracked) R->sign_el[R->nsign++] = i;
   }
   R->nroot_all = s->nroot + R->nsign;
-  if (!NEW(R->rootsfound, R->nroot_all)) return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
-  R->qp = R->nq;
-  R->nq += net->nNode;
-  R->qs = R->nq;
-  R->nq += s->ns;
-  if (!NEW(R->vq_cycle, R->nq)) return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
+  if (!NEW(R->rootsfound, R->nroot_all) || !NEW(R->qpn, net->nNode) ||
+      fci_steps_init(&R->steps, net->nNode, E, s->ns))
+    return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
+  for (int n = 0; n < net->nNode; n++) R->qpn[n] = s->kind[n] == FCI_NODE_FIXED ? R->nq++ : -1;
+  if (!NEW(R->vq_cycle, R->nq) || !NEW(R->qmag, R->nq) || !NEW(R->qtmp, R->nq))
+    return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
   R->dt = net->sim.sample_interval;
   R->next_cycle = net->sim.cycle_period > 0 ? net->sim.cycle_period : INFINITY;
   fci_sys_rest(s, R->x0);
@@ -83,6 +85,8 @@ void fci_run_free(fci_run *R)
   fc_sim_result_free(R->res);
   fc_free(R->qoff); fc_free(R->qbuf); fc_free(R->modes); fc_free(R->corner_el);
   fc_free(R->rootsfound); fc_free(R->sign_el); fc_free(R->x0); fc_free(R->v0); fc_free(R->vq_cycle);
+  fc_free(R->qpn); fc_free(R->qmag); fc_free(R->qtmp);
+  fci_steps_free(&R->steps);
   memset(R, 0, sizeof *R);
 }
 
@@ -107,8 +111,7 @@ void fci_run_quad_rhs(const fci_run *R, double *dq)
     dq[o] = s->q[i];
     dq[o + 1] = s->q[i] < 0 ? -s->q[i] : 0;
   }
-  for (int n = 0; n < s->nN; n++) dq[R->qp + n] = s->p[n];
-  for (int k = 0; k < s->ns; k++) dq[R->qs + k] = s->qin[s->xnode[k]];
+  for (int n = 0; n < s->nN; n++) if (R->qpn[n] >= 0) dq[R->qpn[n]] = s->p[n];
 }
 
 static void extremes(fci_run *R)
@@ -120,7 +123,7 @@ static void extremes(fci_run *R)
     if (s->p[n] > r->p_max[n]) r->p_max[n] = s->p[n];
   }
   for (int i = 0; i < s->nE; i++) {
-    if (R->qoff[i] < 0) continue;
+    if (R->net->elem[i].nTerm != 2) continue;
     if (s->q[i] < r->q_min[i]) r->q_min[i] = s->q[i];
     if (s->q[i] > r->q_max[i]) r->q_max[i] = s->q[i];
   }
@@ -131,7 +134,7 @@ static int emit(fci_run *R, double t, fc_error *err)
   const fci_sys *s = R->sys;
   if (!R->sink || !R->sink->xSample) return FC_OK;
   for (int i = 0; i < s->nE; i++) {
-    R->qbuf[i] = R->qoff[i] >= 0 ? s->q[i] : NAN;
+    R->qbuf[i] = R->net->elem[i].nTerm == 2 ? s->q[i] : NAN;
     R->modes[i] = R->net->elem[i].mode;
   }
   if (R->sink->xSample(R->sink->ctx, t, s->p, R->qbuf, R->modes))
@@ -159,6 +162,7 @@ int fci_run_begin(fci_run *R, const double *yq, fc_error *err)
   for (int k = 0; k < R->sys->ns; k++) R->v0[k] = R->x0[k];
   memcpy(R->vq_cycle, yq, (size_t)R->nq * sizeof *yq);
   extremes(R);
+  fci_steps_left(R);
   R->next_sample = 1;
   R->t_prev = 0;
   return emit(R, 0.0, err);
@@ -203,10 +207,33 @@ int fci_run_sample(fci_run *R, double ts, const double *x, fc_error *err)
   return rc ? rc : emit(R, ts, err);
 }
 
-int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, fc_error *err)
+int fci_run_step_point(fci_run *R, int j, double t, const double *x, fc_error *err)
 {
   int rc = eval_or_fail(R, t, x, err);
   if (rc) return rc;
+  fci_steps_point(R, j);
+  extremes(R);
+  fci_cycles_extremes(R);
+  return FC_OK;
+}
+
+int fci_run_step_restart(fci_run *R, double t, const double *x, fc_error *err)
+{
+  int rc = eval_or_fail(R, t, x, err);
+  if (!rc) fci_steps_left(R);
+  return rc;
+}
+
+int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, double h, int m,
+                     const double *s, fc_error *err)
+{
+  int rc = eval_or_fail(R, t, x, err);
+  if (rc) return rc;
+  if (h > 0) fci_steps_integrate(R, h, m, s);
+  fci_run_quad_rhs(R, R->qtmp);
+  for (int k = 0; k < R->nq; k++)
+    if (fabs(R->qtmp[k]) > R->qmag[k]) R->qmag[k] = fabs(R->qtmp[k]);
+  fci_steps_left(R);
   extremes(R);
   fci_cycles_step(R, t, yq);
   if (R->sink && R->sink->xProgress) R->sink->xProgress(R->sink->ctx, t);
@@ -249,18 +276,22 @@ int fci_run_finish(fci_run *R, double t, const double *x, const double *yq, fc_e
   if (rc) return rc;
   r->t_end = t;
   double T = t > 0 ? t : 1;
+  const fci_steps *S = &R->steps;
   for (int i = 0; i < s->nE; i++) {
     int o = R->qoff[i];
-    if (o < 0) continue;
-    r->v_net[i] = yq[o];
-    r->v_back[i] = yq[o + 1];
-    r->q_mean[i] = yq[o] / T;
+    if (R->net->elem[i].nTerm != 2) continue;
+    r->v_net[i] = o >= 0 ? yq[o] : S->tq[i] + S->cq[i];
+    r->v_back[i] = o >= 0 ? yq[o + 1] : S->tb[i] + S->cb[i];
+    r->q_mean[i] = r->v_net[i] / T;
   }
-  for (int n = 0; n < s->nN; n++) r->p_mean[n] = t > 0 ? yq[R->qp + n] / T : s->p[n];
+  for (int n = 0; n < s->nN; n++) {
+    double I = R->qpn[n] >= 0 ? yq[R->qpn[n]] : S->tp[n] + S->cp[n];
+    r->p_mean[n] = t > 0 ? I / T : s->p[n];
+  }
   for (int k = 0; k < s->ns; k++) {
     int n = s->xnode[k];
     r->v_stored[n] = x[k] - R->v0[k];
-    r->v_inflow[n] = yq[R->qs + k];
+    r->v_inflow[n] = S->ti[k] + S->ci[k];
   }
   return FC_OK;
 }

@@ -6,15 +6,30 @@
 #include "ferrocirc/sim.h"
 #include "sys.h"
 
+/* Integrals over internal steps from the dense output (src/sim_steps.c): everything the report
+ * integrates except what stays a CVODES quadrature (see fci_run.qoff, qpn). */
+#define FCI_STEPS_MAX 2      /* most interior points of one step */
+typedef struct fci_steps {
+  double *pl, *ql, *il;      /* at the step's left end: per node p, per element q, per store qin */
+  double *pm, *qm, *im;      /* the same at the interior points, FCI_STEPS_MAX blocks each */
+  double *cp, *cq, *cb, *ci; /* integrals over the current cycle: p, q, max(-q, 0), qin */
+  double *tp, *tq, *tb, *ti; /* the same over the closed cycles */
+} fci_steps;
+
 typedef struct fci_run {
   fc_net *net;
   fci_sys *sys;
   const fc_sim_sink *sink;   /* may be NULL */
   fc_sim_result *res;
   double *x0;                /* initial state (nx) */
-  int nq;                    /* quadratures: 2 per two-terminal element, 1 per node, 1 per store */
-  int *qoff;                 /* per element: offset of its 2 quadratures, -1 if one-terminal */
-  int qp, qs;                /* offsets of the node-pressure and store-inflow quadratures */
+  int nq;                    /* CVODES quadratures: 2 per tracked element, 1 per imposed node */
+  int *qoff;                 /* per element: offset of its 2 quadratures (q, max(-q, 0)), -1 if
+                                it is one-terminal or integrated from the dense output */
+  int *qpn;                  /* per node: offset of its pressure quadrature, -1 if the node is
+                                not imposed (then from the dense output) */
+  double *qmag;              /* per quadrature: largest |integrand| seen (tolerance scale) */
+  double *qtmp;              /* per quadrature: integrands, work */
+  fci_steps steps;
   int *rootsfound;           /* nroot */
   int *corner_el;            /* elements with an xCorner slot */
   int ncorner;
@@ -54,6 +69,8 @@ void fci_cycles_free(fci_run *R);
 /* After each step (pressures and flows evaluated at t): accumulate; at a boundary close the
  * cycle with the quadratures yq. */
 void fci_cycles_step(fci_run *R, double t, const double *yq);
+/* Extremes of the current cycle at an interior point of a step. */
+void fci_cycles_extremes(fci_run *R);
 /* Chatter check for element i switching at t: FC_ECHATTER (stop) or a hold (continue). */
 int fci_cycles_chatter(fci_run *R, int i, double t, fc_error *err);
 /* Earliest hold release after t among held elements, +inf if none. */
@@ -71,13 +88,31 @@ double fci_run_next_stop(const fci_run *R, double t);
  * fci_run_sample). */
 int fci_run_pending_sample(fci_run *R, double t, double *ts);
 int fci_run_sample(fci_run *R, double ts, const double *x, fc_error *err);
-/* After each internal step: extremes, cycle boundaries. */
-int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, fc_error *err);
+/* After each internal step [t - h, t] with m interior points at s (already evaluated by
+ * fci_run_step_point): step integrals, extremes, cycle boundaries. */
+int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, double h, int m,
+                     const double *s, fc_error *err);
 /* At a root: let elements switch mode; *changed = 1 if any did. */
 int fci_run_events(fci_run *R, double t, const double *x, const int *found, int *changed,
                    fc_error *err);
 /* Final sample and means. */
 int fci_run_finish(fci_run *R, double t, const double *x, const double *yq, fc_error *err);
+/* Step integrals (src/sim_steps.c). fci_steps_points: interior points in (0, 1) for a step
+ * of the given BDF order, returns their number m. After evaluating the system at the step's
+ * left end (after any mode switch), fci_steps_left; at interior point j, fci_steps_point; at
+ * the right end, fci_steps_integrate with the step length h. */
+int fci_steps_points(int order, double *s);
+int fci_steps_init(fci_steps *S, int nN, int nE, int ns);
+void fci_steps_free(fci_steps *S);
+void fci_steps_left(fci_run *R);
+void fci_steps_point(fci_run *R, int j);
+void fci_steps_integrate(fci_run *R, double h, int m, const double *s);
+void fci_steps_close_cycle(fci_steps *S, int nN, int nE, int ns);
+/* Evaluate at interior point j (time t, interpolated state x) of the current step; its values
+ * also count for the extremes. */
+int fci_run_step_point(fci_run *R, int j, double t, const double *x, fc_error *err);
+/* After a mode switch at t: the next step starts from the evaluation in the new modes. */
+int fci_run_step_restart(fci_run *R, double t, const double *x, fc_error *err);
 /* Quadrature integrands after fci_sys_eval. */
 void fci_run_quad_rhs(const fci_run *R, double *dq);
 /* Id of the element owning state component k (a store node's first compliance). */

@@ -83,6 +83,14 @@ typedef struct fci_sys {
   double tlast;             /* its time */
   int cached;               /* 1 if p, q, qin hold the evaluation at (tlast, xlast) */
   long nEval, nEvalHit;     /* evaluations requested, and answered from the cache */
+  /* fast path (src/sys_linear.c) */
+  int *ea, *eb;             /* per element: from and to node (eb = -1 if one-terminal) */
+  int nlin, *lin_el, *lin_a, *lin_b; /* FLOW elements linear in their modes, their nodes */
+  double *lin_k;            /* their coefficients, 3 each: q = k0 + k1 p(from) + k2 p(to) */
+  int ngen, *gen_el;        /* the other FLOW elements, evaluated through xFlow */
+  double *Cconst;           /* per store index: its constant total compliance, 0 if not all
+                               of its elements are constant */
+  int ldirty;               /* 1: re-read the coefficients (a mode switched) */
 } fci_sys;
 
 /* Classify nodes, check topology, build patterns and symbolic factorisations. */
@@ -112,6 +120,11 @@ int fci_sys_steady(fci_sys *s, double t, double *x, fc_error *err);
 void fci_sys_rest(const fci_sys *s, double *x);
 /* Stored volume relative to 0 gauge at the given store index (sum over its elements). */
 double fci_sys_store_volume(const fci_sys *s, double t, int k, double p);
+
+/* Fast path (src/sys_linear.c): allocate at build; re-read the linear coefficients. */
+int fci_sys_linear_build(fci_sys *s);
+void fci_sys_linear_free(fci_sys *s);
+void fci_sys_linear_refresh(fci_sys *s);
 
 /* Sparse helpers (src/sys_sparse.c). Build the CSC pattern of n x n entries (rows[k], cols[k])
  * for k < m; slot[k] receives the value index of entry k (duplicates share one). */

@@ -23,10 +23,19 @@ static void fixed_pressures(fci_sys *s, double t)
 static void flows(fci_sys *s, double t, const double *x)
 {
   const fc_net *net = s->net;
-  memset(s->qin, 0, (size_t)s->nN * sizeof *s->qin);
-  for (int i = 0; i < s->nE; i++) {
+  const double *p = s->p, *k = s->lin_k;
+  double *q = s->q, *qin = s->qin;
+  memset(qin, 0, (size_t)s->nN * sizeof *qin);
+  for (int j = 0; j < s->nlin; j++, k += 3) {
+    int a = s->lin_a[j], b = s->lin_b[j];
+    double v = k[0] + k[1] * p[a] + k[2] * p[b];
+    q[s->lin_el[j]] = v;
+    qin[a] -= v;
+    qin[b] += v;
+  }
+  for (int g = 0; g < s->ngen; g++) {
+    int i = s->gen_el[g];
     const fc_elem *e = &net->elem[i];
-    if (e->role != FC_ROLE_FLOW) continue;
     double pp[2] = {s->p[e->node[0]], s->p[e->node[1]]};
     fci_flow f = {0};
     e->type->xFlow(e, t, pp, e->nState ? x + e->iState : NULL, &f);
@@ -44,9 +53,8 @@ static void update_flows(fci_sys *s)
 {
   const fc_net *net = s->net;
   for (int i = 0; i < s->nE; i++) {
-    const fc_elem *e = &net->elem[i];
-    if (e->role != FC_ROLE_FLOW) continue;
-    int a = e->node[0], b = e->node[1];
+    if (net->elem[i].role != FC_ROLE_FLOW) continue;
+    int a = s->ea[i], b = s->eb[i];
     double da = s->kind[a] == FCI_NODE_ALG ? s->zbuf[s->idx[a]] : 0;
     double db = s->kind[b] == FCI_NODE_ALG ? s->zbuf[s->idx[b]] : 0;
     if (da == 0 && db == 0) continue;
@@ -120,6 +128,7 @@ void fci_sys_invalidate(fci_sys *s)
 {
   s->cached = 0;
   s->gdirty = 1;
+  s->ldirty = 1;
 }
 
 /* Pressure of store k holding volume V (relative to 0 gauge, or to the backing pressure of a
@@ -128,6 +137,12 @@ void fci_sys_invalidate(fci_sys *s)
 static int store_pressure(fci_sys *s, double t, int k, double V)
 {
   double *p = &s->p[s->xnode[k]], last = INFINITY;
+  if (s->Cconst[k] > 0) { /* constant compliances: V = C p exactly */
+    *p = V / s->Cconst[k];
+    s->Csum[k] = s->Cconst[k];
+    s->dCsum[k] = 0;
+    return 0;
+  }
   for (int it = 0; it < NEWTON_MAX; it++) {
     double C = 0, dC = 0, v = 0;
     for (int j = s->store_ptr[k]; j < s->store_ptr[k + 1]; j++) {
@@ -161,6 +176,7 @@ int fci_sys_eval(fci_sys *s, double t, const double *x)
     return 0;
   }
   s->cached = 0;
+  if (s->ldirty) fci_sys_linear_refresh(s);
   fixed_pressures(s, t);
   for (int k = 0; k < s->ns; k++)
     if (store_pressure(s, t, k, x[k])) return 2;

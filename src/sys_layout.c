@@ -175,6 +175,10 @@ int fci_sys_build(fc_net *net, fci_sys **out, fc_error *err)
     rc = fc_fail(err, FC_ENOMEM, NULL, "out of memory");
     goto fail;
   }
+  if (fci_sys_linear_build(s)) {
+    rc = fc_fail(err, FC_ENOMEM, NULL, "out of memory");
+    goto fail;
+  }
   s->gdirty = 1;
   *out = s;
   return FC_OK;
@@ -194,5 +198,6 @@ void fci_sys_free(fci_sys *s)
   fc_free(s->store_el); fc_free(s->xnode); fc_free(s->znode); fc_free(s->p); fc_free(s->q);
   fc_free(s->dqa); fc_free(s->dqb); fc_free(s->dqx); fc_free(s->qin); fc_free(s->Csum);
   fc_free(s->dCsum); fc_free(s->zbuf); fc_free(s->gslot); fc_free(s->aslot); fc_free(s->abuf);
+  fci_sys_linear_free(s);
   fc_free(s);
 }
