@@ -397,6 +397,51 @@ static void store_derivatives_match_finite_differences(void **state)
   }
 }
 
+/* The engine evaluates elements that declare themselves linear (xLinear) from their cached
+ * coefficients instead of xFlow / xStore, so the two must agree: for every good snippet, in
+ * every valve mode, at several times and pressures. A linear FLOW must have no own states; a
+ * linear STORE a constant compliance, no injected flow and V = k0 p. At least the channel,
+ * resistor, both valve types and the constant chamber must declare it. */
+static void linear_coefficients_agree_with_the_element_laws(void **state)
+{
+  (void)state;
+  static const double ps[][2] = {{0, 0}, {1523.0, -377.0}, {-4e4, 250.0}, {3e5, 3e5}};
+  int nlin = 0;
+  for (size_t i = 0; i < N_GOOD; i++) {
+    fc_elem e;
+    fc_error err;
+    assert_int_equal(build(&e, goods[i].type, goods[i].json, &water20, &err), FC_OK);
+    const fc_elem_type *T = e.type;
+    double k[3], x[FCI_MAX_OWN] = {0};
+    for (int mode = e.nRoot ? -1 : e.mode; mode <= (e.nRoot ? 2 : e.mode); mode++) {
+      e.mode = mode;
+      if (!T->xLinear || !T->xLinear(&e, k)) continue;
+      nlin++;
+      for (double t = 0.0; t < 1.0; t += 0.31)
+        for (size_t j = 0; j < sizeof ps / sizeof ps[0]; j++) {
+          if (e.role == FC_ROLE_FLOW) {
+            fci_flow f;
+            assert_int_equal(e.nState, 0);
+            T->xFlow(&e, t, ps[j], x, &f);
+            double want = k[0] + k[1] * ps[j][0] + k[2] * ps[j][1];
+            near_fd(f.q, want, fabs(k[1]) * 1e3 + fabs(k[0]) + 1e-300, "linear q", &goods[i]);
+            near_fd(f.dq_dpa, k[1], fabs(k[1]) + 1e-300, "linear dq/dpa", &goods[i]);
+            near_fd(f.dq_dpb, k[2], fabs(k[2]) + 1e-300, "linear dq/dpb", &goods[i]);
+          } else {
+            double C, dC, q;
+            assert_int_equal(e.role, FC_ROLE_STORE);
+            T->xStore(&e, t, ps[j][0], &C, &dC, &q);
+            near_fd(C, k[0], k[0], "linear C", &goods[i]);
+            assert_true(dC == 0.0 && q == 0.0);
+            near_fd(T->xVolume(&e, t, ps[j][0]), k[0] * ps[j][0], k[0] * 1e3, "linear V", &goods[i]);
+          }
+        }
+    }
+    destroy(&e);
+  }
+  assert_true(nlin >= 5);
+}
+
 /* Out of memory at each allocation of xParse in turn: FC_ENOMEM naming the element's path (or a
  * key below it), nothing leaked (the sanitizer build checks), and success once enough succeed. */
 static void parse_survives_allocation_failures(void **state)
@@ -595,6 +640,7 @@ int main(void)
     cmocka_unit_test(passive_flow_elements_carry_no_flow_at_zero_dp),
     cmocka_unit_test(analytic_jacobian_matches_finite_differences),
     cmocka_unit_test(store_derivatives_match_finite_differences),
+    cmocka_unit_test(linear_coefficients_agree_with_the_element_laws),
     cmocka_unit_test(parse_survives_allocation_failures),
     cmocka_unit_test(channel_resistances_match_R1_R7),
     cmocka_unit_test(culture_channel_reports_centre_wall_shear),
