@@ -10,8 +10,8 @@
 #include <math.h>
 #include <nvector/nvector_serial.h>
 #include <signal.h>
-#include <string.h>
 #include <stdio.h>
+#include <string.h>
 #include <time.h>
 
 #include "ferrocirc/alloc.h"

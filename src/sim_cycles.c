@@ -97,11 +97,9 @@ static void refine_extremes(fci_run *R, double t)
 void fci_cycles_extremes(fci_run *R)
 {
   const fci_sys *s = R->sys;
-  const fc_net *net = R->net;
   for (int i = 0; i < s->nE; i++) {
-    const fc_elem *e = &net->elem[i];
-    if (e->nTerm != 2) continue;
-    double dp = s->p[e->node[0]] - s->p[e->node[1]], q = s->q[i];
+    if (s->eb[i] < 0) continue;
+    double dp = s->p[s->ea[i]] - s->p[s->eb[i]], q = s->q[i];
     if (dp > R->c_dpmax[i]) R->c_dpmax[i] = dp;
     if (dp < R->c_dpmin[i]) R->c_dpmin[i] = dp;
     if (q > R->c_qmax[i]) R->c_qmax[i] = q;

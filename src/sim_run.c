@@ -123,7 +123,7 @@ static void extremes(fci_run *R)
     if (s->p[n] > r->p_max[n]) r->p_max[n] = s->p[n];
   }
   for (int i = 0; i < s->nE; i++) {
-    if (R->net->elem[i].nTerm != 2) continue;
+    if (s->eb[i] < 0) continue;
     if (s->q[i] < r->q_min[i]) r->q_min[i] = s->q[i];
     if (s->q[i] > r->q_max[i]) r->q_max[i] = s->q[i];
   }
@@ -134,7 +134,7 @@ static int emit(fci_run *R, double t, fc_error *err)
   const fci_sys *s = R->sys;
   if (!R->sink || !R->sink->xSample) return FC_OK;
   for (int i = 0; i < s->nE; i++) {
-    R->qbuf[i] = R->net->elem[i].nTerm == 2 ? s->q[i] : NAN;
+    R->qbuf[i] = s->eb[i] >= 0 ? s->q[i] : NAN;
     R->modes[i] = R->net->elem[i].mode;
   }
   if (R->sink->xSample(R->sink->ctx, t, s->p, R->qbuf, R->modes))

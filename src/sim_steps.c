@@ -120,7 +120,6 @@ void fci_steps_integrate(fci_run *R, double h, int m, const double *s_in)
 {
   fci_steps *S = &R->steps;
   const fci_sys *s = R->sys;
-  const fc_net *net = R->net;
   const int nN = s->nN, nE = s->nE, ns = s->ns, n = m + 2;
   double x[FCI_STEPS_MAX + 2], w[FCI_STEPS_MAX + 2], y[FCI_STEPS_MAX + 2];
   x[0] = 0;
@@ -142,7 +141,7 @@ void fci_steps_integrate(fci_run *R, double h, int m, const double *s_in)
     S->ci[k] += v;
   }
   for (int i = 0; i < nE; i++) {
-    if (R->qoff[i] >= 0 || net->elem[i].nTerm != 2) continue;
+    if (R->qoff[i] >= 0 || s->eb[i] < 0) continue;
     y[0] = S->ql[i];
     y[n - 1] = s->q[i];
     for (int j = 0; j < m; j++) y[j + 1] = qm[(size_t)j * nE + i];

@@ -49,20 +49,23 @@ static void flows(fci_sys *s, double t, const double *x)
 }
 
 /* After an update zbuf of the ALG pressures: q += dq/dpa dpa + dq/dpb dpb, inflows likewise. */
+static void update_flow(fci_sys *s, int i)
+{
+  int a = s->ea[i], b = s->eb[i];
+  double da = s->kind[a] == FCI_NODE_ALG ? s->zbuf[s->idx[a]] : 0;
+  double db = s->kind[b] == FCI_NODE_ALG ? s->zbuf[s->idx[b]] : 0;
+  if (da == 0 && db == 0) return;
+  double dq = s->dqa[i] * da + s->dqb[i] * db;
+  s->q[i] += dq;
+  s->qin[a] -= dq;
+  s->qin[b] += dq;
+}
+
+/* The FLOW elements are exactly the linear and the generic lists (src/sys_linear.c). */
 static void update_flows(fci_sys *s)
 {
-  const fc_net *net = s->net;
-  for (int i = 0; i < s->nE; i++) {
-    if (net->elem[i].role != FC_ROLE_FLOW) continue;
-    int a = s->ea[i], b = s->eb[i];
-    double da = s->kind[a] == FCI_NODE_ALG ? s->zbuf[s->idx[a]] : 0;
-    double db = s->kind[b] == FCI_NODE_ALG ? s->zbuf[s->idx[b]] : 0;
-    if (da == 0 && db == 0) continue;
-    double dq = s->dqa[i] * da + s->dqb[i] * db;
-    s->q[i] += dq;
-    s->qin[a] -= dq;
-    s->qin[b] += dq;
-  }
+  for (int j = 0; j < s->nlin; j++) update_flow(s, s->lin_el[j]);
+  for (int g = 0; g < s->ngen; g++) update_flow(s, s->gen_el[g]);
 }
 
 /* Conservation F_i = qin at each ALG node; dF/dz from the element partials. */
