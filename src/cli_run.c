@@ -135,14 +135,8 @@ static int finish_outputs(run_io *io, const run_args *a, int rc, const fc_net *n
     return rc;
   }
   if (!rc && io->summary) {
-    char *txt = fc_summary_json(net, r);
-    if (!txt) rc = fc_fail(err, FC_ENOMEM, NULL, "out of memory");
-    else {
-      FILE *f = fc_outfile_stream(io->summary);
-      fputs(txt, f);
-      fputc('\n', f);
-      free(txt);
-    }
+    if (fc_summary_json_write(fc_outfile_stream(io->summary), net, r))
+      rc = fc_fail(err, FC_EIO, NULL, "%s: could not write the summary JSON", a->summary);
   }
   if (rc) {
     fc_outfile_abort(io->csv);

@@ -1,9 +1,9 @@
 /* ferrocirc — run summary (see summary.h). */
-#include <cjson/cJSON.h>
 #include <math.h>
 #include <stdio.h>
 
 #include "ferrocirc/summary.h"
+#include "json_write.h"
 #include "net.h"
 #include "summary_int.h"
 
@@ -42,64 +42,60 @@ void fc_summary_print(FILE *f, const fc_net *net, const fc_sim_result *r, const 
   fputs(fc_cautions_text, f);
 }
 
-static cJSON *num(cJSON *o, const char *k, double v)
+int fc_summary_json_write(FILE *f, const fc_net *net, const fc_sim_result *r)
 {
-  return isfinite(v) ? cJSON_AddNumberToObject(o, k, v) : cJSON_AddNullToObject(o, k);
-}
-
-char *fc_summary_json(const fc_net *net, const fc_sim_result *r)
-{
-  cJSON *root = cJSON_CreateObject(), *els, *nodes, *st;
-  if (!root) return NULL;
-  cJSON_AddStringToObject(root, "format", "ferrocirc-summary/1");
-  cJSON_AddStringToObject(root, "title", net->title);
-  num(root, "t_end_s", r->t_end);
-  num(root, "cycle_period_s", r->cycle_period);
-  cJSON_AddNumberToObject(root, "cycles", r->nCycle);
-  cJSON_AddItemToObject(root, "elements", els = cJSON_CreateArray());
-  for (int i = 0; els && i < net->nElem; i++) {
-    cJSON *e = cJSON_CreateObject();
-    if (!e) break;
-    cJSON_AddItemToArray(els, e);
-    cJSON_AddStringToObject(e, "id", net->elem[i].id);
-    cJSON_AddStringToObject(e, "type", net->elem[i].type->name);
-    if (isnan(r->q_mean[i])) continue;
-    num(e, "q_mean_m3s", r->q_mean[i]);
-    num(e, "q_min_m3s", r->q_min[i]);
-    num(e, "q_max_m3s", r->q_max[i]);
-    num(e, "volume_net_m3", r->v_net[i]);
-    num(e, "volume_back_m3", r->v_back[i]);
+  fci_jw w;
+  fci_jw_init(&w, f);
+  fci_jw_object(&w, NULL);
+  fci_jw_string(&w, "format", "ferrocirc-summary/1");
+  fci_jw_string(&w, "title", net->title);
+  fci_jw_number(&w, "t_end_s", r->t_end);
+  fci_jw_number(&w, "cycle_period_s", r->cycle_period);
+  fci_jw_number(&w, "cycles", r->nCycle);
+  fci_jw_array(&w, "elements");
+  for (int i = 0; i < net->nElem; i++) {
+    fci_jw_object(&w, NULL);
+    fci_jw_string(&w, "id", net->elem[i].id);
+    fci_jw_string(&w, "type", net->elem[i].type->name);
+    if (!isnan(r->q_mean[i])) {
+      fci_jw_number(&w, "q_mean_m3s", r->q_mean[i]);
+      fci_jw_number(&w, "q_min_m3s", r->q_min[i]);
+      fci_jw_number(&w, "q_max_m3s", r->q_max[i]);
+      fci_jw_number(&w, "volume_net_m3", r->v_net[i]);
+      fci_jw_number(&w, "volume_back_m3", r->v_back[i]);
+    }
+    fci_jw_end(&w);
   }
-  cJSON_AddItemToObject(root, "nodes", nodes = cJSON_CreateArray());
-  for (int n = 0; nodes && n < net->nNode; n++) {
-    cJSON *o = cJSON_CreateObject();
-    if (!o) break;
-    cJSON_AddItemToArray(nodes, o);
-    cJSON_AddStringToObject(o, "name", net->nodeName[n]);
-    num(o, "p_min_Pa", r->p_min[n]);
-    num(o, "p_mean_Pa", r->p_mean[n]);
-    num(o, "p_max_Pa", r->p_max[n]);
-    num(o, "volume_stored_m3", r->v_stored[n]);
-    num(o, "volume_inflow_m3", r->v_inflow[n]);
+  fci_jw_end(&w);
+  fci_jw_array(&w, "nodes");
+  for (int n = 0; n < net->nNode; n++) {
+    fci_jw_object(&w, NULL);
+    fci_jw_string(&w, "name", net->nodeName[n]);
+    fci_jw_number(&w, "p_min_Pa", r->p_min[n]);
+    fci_jw_number(&w, "p_mean_Pa", r->p_mean[n]);
+    fci_jw_number(&w, "p_max_Pa", r->p_max[n]);
+    fci_jw_number(&w, "volume_stored_m3", r->v_stored[n]);
+    fci_jw_number(&w, "volume_inflow_m3", r->v_inflow[n]);
+    fci_jw_end(&w);
   }
-  cJSON_AddItemToObject(root, "solver", st = cJSON_CreateObject());
-  if (st) {
-    const fc_sim_stats *s = &r->stats;
-    cJSON_AddNumberToObject(st, "steps", (double)s->steps);
-    cJSON_AddNumberToObject(st, "rhs_evals", (double)s->rhs_evals);
-    cJSON_AddNumberToObject(st, "prec_setups", (double)s->prec_setups);
-    cJSON_AddNumberToObject(st, "lin_iters", (double)s->lin_iters);
-    cJSON_AddNumberToObject(st, "events", (double)s->events);
-    cJSON_AddNumberToObject(st, "restarts", (double)s->restarts);
-    cJSON_AddNumberToObject(st, "nonlin_iters", (double)s->nonlin_iters);
-    cJSON_AddNumberToObject(st, "err_test_fails", (double)s->err_test_fails);
-    cJSON_AddNumberToObject(st, "conv_fails", (double)s->conv_fails);
-    cJSON_AddNumberToObject(st, "root_evals", (double)s->root_evals);
-    cJSON_AddNumberToObject(st, "factorizations", (double)s->factorizations);
-    cJSON_AddNumberToObject(st, "wall_seconds", s->wall_seconds);
-  }
-  fci_summary_json_cycles(root, net, r);
-  char *txt = cJSON_Print(root);
-  cJSON_Delete(root);
-  return txt;
+  fci_jw_end(&w);
+  const fc_sim_stats *s = &r->stats;
+  fci_jw_object(&w, "solver");
+  fci_jw_number(&w, "steps", (double)s->steps);
+  fci_jw_number(&w, "rhs_evals", (double)s->rhs_evals);
+  fci_jw_number(&w, "prec_setups", (double)s->prec_setups);
+  fci_jw_number(&w, "lin_iters", (double)s->lin_iters);
+  fci_jw_number(&w, "events", (double)s->events);
+  fci_jw_number(&w, "restarts", (double)s->restarts);
+  fci_jw_number(&w, "nonlin_iters", (double)s->nonlin_iters);
+  fci_jw_number(&w, "err_test_fails", (double)s->err_test_fails);
+  fci_jw_number(&w, "conv_fails", (double)s->conv_fails);
+  fci_jw_number(&w, "root_evals", (double)s->root_evals);
+  fci_jw_number(&w, "factorizations", (double)s->factorizations);
+  fci_jw_number(&w, "wall_seconds", s->wall_seconds);
+  fci_jw_end(&w);
+  fci_summary_json_cycles(&w, net, r);
+  fci_jw_end(&w);
+  putc('\n', f);
+  return fci_jw_finish(&w);
 }

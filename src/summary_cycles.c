@@ -9,10 +9,10 @@
  *   formulas, elements/channel.c); TAWSS = (1/T) int |tau| dt = k (V_net + 2 V_back) / T;
  *   OSI = (1/2)(1 - |int tau dt| / int |tau| dt) (Ku et al. 1985, Arteriosclerosis 5:293);
  *   blowout margin = peak |dp| / blowout pressure (>= 1: blown). */
-#include <cjson/cJSON.h>
 #include <math.h>
 #include <stdio.h>
 
+#include "json_write.h"
 #include "net.h"
 #include "summary_int.h"
 
@@ -112,67 +112,71 @@ void fci_summary_print_cycles(FILE *f, const fc_net *net, const fc_sim_result *r
   }
 }
 
-static void json_row(cJSON *o, const fci_cycle_row *w)
+static void json_row(fci_jw *w, const fci_cycle_row *o)
 {
-  cJSON_AddNumberToObject(o, "volume_forward_m3", w->v_fwd);
-  cJSON_AddNumberToObject(o, "volume_back_m3", w->v_back);
-  cJSON_AddNumberToObject(o, "volume_net_m3", w->v_net);
-  if (isfinite(w->rf)) cJSON_AddNumberToObject(o, "regurgitant_fraction", w->rf);
-  cJSON_AddNumberToObject(o, "open_fraction", w->open_frac);
-  cJSON_AddNumberToObject(o, "peak_dp_forward_Pa", w->dp_fwd);
-  cJSON_AddNumberToObject(o, "peak_dp_reverse_Pa", w->dp_rev);
-  if (isfinite(w->margin)) cJSON_AddNumberToObject(o, "blowout_margin", w->margin);
-  if (isfinite(w->pi_q)) cJSON_AddNumberToObject(o, "pulsatility_flow", w->pi_q);
+  fci_jw_number(w, "volume_forward_m3", o->v_fwd);
+  fci_jw_number(w, "volume_back_m3", o->v_back);
+  fci_jw_number(w, "volume_net_m3", o->v_net);
+  if (isfinite(o->rf)) fci_jw_number(w, "regurgitant_fraction", o->rf);
+  fci_jw_number(w, "open_fraction", o->open_frac);
+  fci_jw_number(w, "peak_dp_forward_Pa", o->dp_fwd);
+  fci_jw_number(w, "peak_dp_reverse_Pa", o->dp_rev);
+  if (isfinite(o->margin)) fci_jw_number(w, "blowout_margin", o->margin);
+  if (isfinite(o->pi_q)) fci_jw_number(w, "pulsatility_flow", o->pi_q);
 }
 
-void fci_summary_json_cycles(cJSON *root, const fc_net *net, const fc_sim_result *r)
+void fci_summary_json_cycles(fci_jw *w, const fc_net *net, const fc_sim_result *r)
 {
-  cJSON *tr = cJSON_AddArrayToObject(root, "tracked");
-  cJSON_AddNumberToObject(root, "periodic_cycle", r->periodic_cycle);
-  cJSON_AddNumberToObject(root, "chatter_holds", r->chatter_holds);
-  for (int i = 0; tr && i < net->nElem; i++) {
+  fci_jw_array(w, "tracked");
+  for (int i = 0; i < net->nElem; i++) {
     if (!fci_summary_tracked(net, i)) continue;
-    cJSON *o = cJSON_CreateObject(), *cy;
-    cJSON_AddItemToArray(tr, o);
-    cJSON_AddStringToObject(o, "id", net->elem[i].id);
-    cJSON_AddBoolToObject(o, "blown", r->blown_elem[i]);
-    if (r->blown_elem[i]) cJSON_AddNumberToObject(o, "blown_at_s", r->blown_time[i]);
-    if (!(cy = cJSON_AddArrayToObject(o, "cycles"))) continue;
+    fci_jw_object(w, NULL);
+    fci_jw_string(w, "id", net->elem[i].id);
+    fci_jw_bool(w, "blown", r->blown_elem[i]);
+    if (r->blown_elem[i]) fci_jw_number(w, "blown_at_s", r->blown_time[i]);
+    fci_jw_array(w, "cycles");
     for (int c = 0; c < r->nCycle; c++) {
-      fci_cycle_row w;
-      cJSON *row = cJSON_CreateObject();
-      fci_summary_cycle(net, r, c, i, &w);
-      json_row(row, &w);
-      cJSON_AddItemToArray(cy, row);
+      fci_cycle_row o;
+      fci_summary_cycle(net, r, c, i, &o);
+      fci_jw_object(w, NULL);
+      json_row(w, &o);
+      fci_jw_end(w);
     }
+    fci_jw_end(w);
+    fci_jw_end(w);
   }
+  fci_jw_end(w);
+  fci_jw_number(w, "periodic_cycle", r->periodic_cycle);
+  fci_jw_number(w, "chatter_holds", r->chatter_holds);
   if (r->nCycle == 0) return;
   int last = r->nCycle - 1;
-  cJSON *pn = cJSON_AddArrayToObject(root, "last_cycle_nodes");
-  for (int n = 0; pn && n < net->nNode; n++) {
+  fci_jw_array(w, "last_cycle_nodes");
+  for (int n = 0; n < net->nNode; n++) {
     size_t k = (size_t)last * r->nNode + n;
-    cJSON *o = cJSON_CreateObject();
-    cJSON_AddItemToArray(pn, o);
-    cJSON_AddStringToObject(o, "name", net->nodeName[n]);
-    cJSON_AddNumberToObject(o, "p_min_Pa", r->cyc_p_min[k]);
-    cJSON_AddNumberToObject(o, "p_mean_Pa", r->cyc_p_mean[k]);
-    cJSON_AddNumberToObject(o, "p_max_Pa", r->cyc_p_max[k]);
+    fci_jw_object(w, NULL);
+    fci_jw_string(w, "name", net->nodeName[n]);
+    fci_jw_number(w, "p_min_Pa", r->cyc_p_min[k]);
+    fci_jw_number(w, "p_mean_Pa", r->cyc_p_mean[k]);
+    fci_jw_number(w, "p_max_Pa", r->cyc_p_max[k]);
     if (r->cyc_p_mean[k] != 0)
-      cJSON_AddNumberToObject(o, "pulsatility", (r->cyc_p_max[k] - r->cyc_p_min[k]) / fabs(r->cyc_p_mean[k]));
+      fci_jw_number(w, "pulsatility", (r->cyc_p_max[k] - r->cyc_p_min[k]) / fabs(r->cyc_p_mean[k]));
+    fci_jw_end(w);
   }
-  cJSON *pe = cJSON_AddArrayToObject(root, "last_cycle_elements");
-  for (int i = 0; pe && i < net->nElem; i++) {
+  fci_jw_end(w);
+  fci_jw_array(w, "last_cycle_elements");
+  for (int i = 0; i < net->nElem; i++) {
     if (net->elem[i].nTerm != 2) continue;
-    fci_cycle_row w;
-    cJSON *o = cJSON_CreateObject();
-    fci_summary_cycle(net, r, last, i, &w);
-    cJSON_AddItemToArray(pe, o);
-    cJSON_AddStringToObject(o, "id", net->elem[i].id);
-    json_row(o, &w);
+    fci_cycle_row o;
+    fci_summary_cycle(net, r, last, i, &o);
+    fci_jw_object(w, NULL);
+    fci_jw_string(w, "id", net->elem[i].id);
+    json_row(w, &o);
     if (net->elem[i].culture) {
-      cJSON_AddNumberToObject(o, "tawss_Pa", w.tawss);
-      cJSON_AddNumberToObject(o, "wss_peak_Pa", w.tau_peak);
-      if (isfinite(w.osi)) cJSON_AddNumberToObject(o, "osi", w.osi);
+      fci_jw_number(w, "tawss_Pa", o.tawss);
+      fci_jw_number(w, "wss_peak_Pa", o.tau_peak);
+      if (isfinite(o.osi)) fci_jw_number(w, "osi", o.osi);
     }
+    fci_jw_end(w);
   }
+  fci_jw_end(w);
 }

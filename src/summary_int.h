@@ -25,7 +25,9 @@ void fci_summary_print_alerts(FILE *f, const fc_net *net, const fc_sim_result *r
                               const fc_report_units *u);
 void fci_summary_print_cycles(FILE *f, const fc_net *net, const fc_sim_result *r,
                               const fc_report_units *u);
-/* Add "cycles", "valves", "pulsatility" to the JSON summary root. */
-void fci_summary_json_cycles(struct cJSON *root, const fc_net *net, const fc_sim_result *r);
+/* Write the members "tracked", "periodic_cycle", "chatter_holds", "last_cycle_nodes" and
+ * "last_cycle_elements" into the open summary object. */
+struct fci_jw;
+void fci_summary_json_cycles(struct fci_jw *w, const fc_net *net, const fc_sim_result *r);
 
 #endif

@@ -13,17 +13,11 @@
 #include <string.h>
 
 #include "fmt_g.h"
+#include "test_rng.h"
 
 static uint64_t rng = 0x9e3779b97f4a7c15u;
 
-/* xorshift64* (Vigna 2016): a fixed, portable stream, so failures reproduce. */
-static uint64_t next(void)
-{
-  rng ^= rng >> 12;
-  rng ^= rng << 25;
-  rng ^= rng >> 27;
-  return rng * 0x2545f4914f6cdd1du;
-}
+static uint64_t next(void) { return test_rng_next(&rng); }
 
 static long mismatches;
 

@@ -15,9 +15,10 @@ typedef struct fc_report_units {
 /* Human-readable summary, ending with the usual cautions. */
 void fc_summary_print(FILE *f, const fc_net *net, const fc_sim_result *r, const fc_report_units *u);
 
-/* JSON text of the summary in SI ("format": "ferrocirc-summary/1"); caller frees with free().
- * NULL on allocation failure. */
-char *fc_summary_json(const fc_net *net, const fc_sim_result *r);
+/* Writes the summary in SI as JSON ("format": "ferrocirc-summary/1") to f as it is produced:
+ * no document tree is built, so memory does not grow with the network. Numbers read back to
+ * the same double; non-finite ones are null. 0 on success, -1 if the stream reported an error. */
+int fc_summary_json_write(FILE *f, const fc_net *net, const fc_sim_result *r);
 
 /* The cautions printed at the end of every report. */
 extern const char *const fc_cautions_text;
