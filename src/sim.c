@@ -5,7 +5,8 @@
  * augmented sparse matrix of sys.h (KLU), so the cost per step is linear in network size. Right-hand side returns 0, >0 to ask
  * for a smaller step, <0 on fatal errors (SUNDIALS convention). Discontinuities: root functions
  * locate mode switches; at each switch, waveform corner and cycle boundary the integrator stops
- * (CVodeSetStopTime) and restarts (CVodeReInit, CVodeQuadReInit), so no step straddles one. */
+ * (CVodeSetStopTime) and restarts (CVodeReInit, CVodeQuadReInit), so no step straddles one.
+ * (nvec_fast.c also includes the serial vector header, to replace its kernels.) */
 #include <cvodes/cvodes.h> /* CVODE with quadratures: same integrator, same API */
 #include <math.h>
 #include <nvector/nvector_serial.h>
@@ -16,6 +17,7 @@
 
 #include "ferrocirc/alloc.h"
 #include "ferrocirc/sim.h"
+#include "nvec_fast.h"
 #include "sim_run.h"
 
 static volatile sig_atomic_t stop_requested = 0;
@@ -189,6 +191,8 @@ static int cv_init(cv *c, fci_run *R, fc_error *err)
   c->qtot = fc_calloc((size_t)R->nq + 1, sizeof *c->qtot);
   if (!c->y || !c->ytmp || !c->yq || !c->ewt || !c->ele || !c->mem || !c->qacc || !c->qtot)
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory creating the integrator");
+  N_Vector fast[] = {c->y, c->ytmp, c->ewt, c->ele, c->yq};
+  for (size_t k = 0; k < sizeof fast / sizeof fast[0]; k++) fci_nvec_fast(fast[k]);
   N_VConst(0, c->y);
   if (s->nx) memcpy(NV_DATA_S(c->y), R->x0, (size_t)s->nx * sizeof(double));
   N_VConst(0, c->yq);
@@ -223,6 +227,7 @@ static int restart(cv *c, fci_run *R, double t)
   R->res->stats.restarts++;
   collect_stats(c, &R->res->stats);
   if (CVodeReInit(c->mem, t, c->y)) return FC_ESOLVE;
+  c->lsc.gamma = 0; /* the Jacobian may have changed with the mode: refactor */
   if (R->nq) {
     memcpy(c->qacc, c->qtot, (size_t)R->nq * sizeof *c->qacc);
     N_VConst(0, c->yq);
@@ -283,7 +288,9 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
   int rc = fci_run_begin(R, c->qtot, err);
   while (!rc && !R->done && t < tend * (1 - 1e-15)) {
     if (stop_requested) { rc = fc_fail(err, FC_EINTR, NULL, "interrupted at t = %.9g s", t); break; }
-    double tstop = fci_run_next_stop(R, t);
+    int smooth;
+    double tstop = fci_run_next_stop(R, t, &smooth);
+    (void)smooth;
     if (CVodeSetStopTime(c->mem, tstop)) { rc = fc_fail(err, FC_ESOLVE, NULL, "stop time"); break; }
     int flag = CVode(c->mem, tend, c->y, &t, CV_ONE_STEP);
     if (flag < 0) {

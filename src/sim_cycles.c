@@ -64,7 +64,7 @@ void fci_cycles_free(fci_run *R)
 static void refine_extremes(fci_run *R, double t)
 {
   const fci_sys *s = R->sys;
-  fc_sim_result *r = R->res;
+  const fc_sim_result *r = R->res;
   int kink = r->stats.restarts != R->restarts_seen;
   R->restarts_seen = r->stats.restarts;
   if (R->nhist > 0 && t <= R->th1) return; /* the same point again */
@@ -81,8 +81,6 @@ static void refine_extremes(fci_run *R, double t)
       if (!(d > -h2 && d < h1) || !isfinite(v)) continue;
       if (v > R->c_pmax[n]) R->c_pmax[n] = v;
       if (v < R->c_pmin[n]) R->c_pmin[n] = v;
-      if (v > r->p_max[n]) r->p_max[n] = v;
-      if (v < r->p_min[n]) r->p_min[n] = v;
     }
   }
   double *tmp = R->ph2;
@@ -171,6 +169,23 @@ static void close_cycle(fci_run *R, const double *yq)
   }
 }
 
+/* The run's extremes are those of its cycles: folded in before each cycle's are reset, and
+ * at the end (fci_run_finish), so each point is compared once, not twice. */
+void fci_cycles_fold_extremes(fci_run *R)
+{
+  const fci_sys *s = R->sys;
+  fc_sim_result *r = R->res;
+  for (int i = 0; i < s->nE; i++) {
+    if (s->eb[i] < 0) continue;
+    if (R->c_qmin[i] < r->q_min[i]) r->q_min[i] = R->c_qmin[i];
+    if (R->c_qmax[i] > r->q_max[i]) r->q_max[i] = R->c_qmax[i];
+  }
+  for (int n = 0; n < s->nN; n++) {
+    if (R->c_pmin[n] < r->p_min[n]) r->p_min[n] = R->c_pmin[n];
+    if (R->c_pmax[n] > r->p_max[n]) r->p_max[n] = R->c_pmax[n];
+  }
+}
+
 void fci_cycles_step(fci_run *R, double t, const double *yq)
 {
   double T = R->net->sim.cycle_period;
@@ -179,6 +194,7 @@ void fci_cycles_step(fci_run *R, double t, const double *yq)
   if (!(T > 0) || t < R->next_cycle * (1 - 1e-12)) return;
   int cap = (int)floor(R->net->sim.duration / T + 1e-9);
   if (R->res->nCycle < cap) close_cycle(R, yq);
+  fci_cycles_fold_extremes(R);
   reset_cycle(R);
   /* Keep the point at the boundary in the next cycle too, so its extremes include it. */
   accumulate(R, t);

@@ -114,21 +114,6 @@ void fci_run_quad_rhs(const fci_run *R, double *dq)
   for (int n = 0; n < s->nN; n++) if (R->qpn[n] >= 0) dq[R->qpn[n]] = s->p[n];
 }
 
-static void extremes(fci_run *R)
-{
-  const fci_sys *s = R->sys;
-  fc_sim_result *r = R->res;
-  for (int n = 0; n < s->nN; n++) {
-    if (s->p[n] < r->p_min[n]) r->p_min[n] = s->p[n];
-    if (s->p[n] > r->p_max[n]) r->p_max[n] = s->p[n];
-  }
-  for (int i = 0; i < s->nE; i++) {
-    if (s->eb[i] < 0) continue;
-    if (s->q[i] < r->q_min[i]) r->q_min[i] = s->q[i];
-    if (s->q[i] > r->q_max[i]) r->q_max[i] = s->q[i];
-  }
-}
-
 static int emit(fci_run *R, double t, fc_error *err)
 {
   const fci_sys *s = R->sys;
@@ -161,25 +146,28 @@ int fci_run_begin(fci_run *R, const double *yq, fc_error *err)
   if (rc) return rc;
   for (int k = 0; k < R->sys->ns; k++) R->v0[k] = R->x0[k];
   memcpy(R->vq_cycle, yq, (size_t)R->nq * sizeof *yq);
-  extremes(R);
+  fci_cycles_extremes(R); /* the first cycle includes its start, as later ones do */
   fci_steps_left(R);
   R->next_sample = 1;
   R->t_prev = 0;
   return emit(R, 0.0, err);
 }
 
-double fci_run_next_stop(const fci_run *R, double t)
+double fci_run_next_stop(const fci_run *R, double t, int *smooth)
 {
   double ts = R->net->sim.duration;
   if (R->next_cycle < ts) ts = R->next_cycle;
   double tr = fci_cycles_next_release(R, t);
   if (tr < ts) ts = tr;
+  double tc = INFINITY;
   for (int k = 0; k < R->ncorner; k++) {
     const fc_elem *e = &R->net->elem[R->corner_el[k]];
     double c = e->type->xCorner(e, t * (1 + 1e-14) + 1e-300);
-    if (c < ts) ts = c;
+    if (c < tc) tc = c;
   }
-  return ts;
+  /* A corner within rounding of a hard stop is that stop (a pulse starting on a cycle). */
+  *smooth = tc < ts * (1 - 1e-12);
+  return tc < ts ? tc : ts;
 }
 
 int fci_run_pending_sample(fci_run *R, double t, double *ts)
@@ -212,7 +200,6 @@ int fci_run_step_point(fci_run *R, int j, double t, const double *x, fc_error *e
   int rc = eval_or_fail(R, t, x, err);
   if (rc) return rc;
   fci_steps_point(R, j);
-  extremes(R);
   fci_cycles_extremes(R);
   return FC_OK;
 }
@@ -234,7 +221,6 @@ int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, do
   for (int k = 0; k < R->nq; k++)
     if (fabs(R->qtmp[k]) > R->qmag[k]) R->qmag[k] = fabs(R->qtmp[k]);
   fci_steps_left(R);
-  extremes(R);
   fci_cycles_step(R, t, yq);
   if (R->sink && R->sink->xProgress) R->sink->xProgress(R->sink->ctx, t);
   return FC_OK;
@@ -275,6 +261,7 @@ int fci_run_finish(fci_run *R, double t, const double *x, const double *yq, fc_e
   int rc = eval_or_fail(R, t, x, err);
   if (rc) return rc;
   r->t_end = t;
+  fci_cycles_fold_extremes(R);
   double T = t > 0 ? t : 1;
   const fci_steps *S = &R->steps;
   for (int i = 0; i < s->nE; i++) {

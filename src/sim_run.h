@@ -71,6 +71,8 @@ void fci_cycles_free(fci_run *R);
 void fci_cycles_step(fci_run *R, double t, const double *yq);
 /* Extremes of the current cycle at an interior point of a step. */
 void fci_cycles_extremes(fci_run *R);
+/* Fold the current cycle's extremes into the run's (before a reset, and at the end). */
+void fci_cycles_fold_extremes(fci_run *R);
 /* Chatter check for element i switching at t: FC_ECHATTER (stop) or a hold (continue). */
 int fci_cycles_chatter(fci_run *R, int i, double t, fc_error *err);
 /* Earliest hold release after t among held elements, +inf if none. */
@@ -83,7 +85,11 @@ void fci_run_free(fci_run *R);
 /* At t = 0: first sample and extremes; yq holds the zeroed quadratures. */
 int fci_run_begin(fci_run *R, const double *yq, fc_error *err);
 /* Earliest of the duration, the next cycle boundary and the next waveform corner after t. */
-double fci_run_next_stop(const fci_run *R, double t);
+/* The next time the integrator must stop at, after t. *smooth is set when it is only a waveform
+ * corner: every waveform is continuous (waveform.h), so the right-hand side is too and the
+ * integrator steps on from it without a restart; a cycle boundary, a hold release or the end
+ * clear it. */
+double fci_run_next_stop(const fci_run *R, double t, int *smooth);
 /* If a sample is due at or before t, set *ts and return 1 (the sample is then consumed by
  * fci_run_sample). */
 int fci_run_pending_sample(fci_run *R, double t, double *ts);
