@@ -187,9 +187,10 @@ static int chamber_linear(const fc_elem *e, double k[3])
   return 1;
 }
 
-static double chamber_corner(const fc_elem *e, double t)
+static double chamber_corner(const fc_elem *e, double t, int *smooth)
 {
   const chamber_param *P = e->param;
+  *smooth = P->back ? fc_waveform_corners_smooth(P->back) : 1;
   return P->back ? fc_waveform_next_corner(P->back, t) : INFINITY;
 }
 

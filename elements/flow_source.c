@@ -43,9 +43,10 @@ static void flow_source_flow(const fc_elem *e, double t, const double p[2], cons
   out->q = fc_waveform_eval(P->flow, t);
 }
 
-static double flow_source_corner(const fc_elem *e, double t)
+static double flow_source_corner(const fc_elem *e, double t, int *smooth)
 {
   const flow_source_param *P = e->param;
+  *smooth = fc_waveform_corners_smooth(P->flow);
   return fc_waveform_next_corner(P->flow, t);
 }
 

@@ -61,9 +61,10 @@ static double pressure_source_fix(const fc_elem *e, double t)
   return fc_waveform_eval(P->rise, t);
 }
 
-static double pressure_source_corner(const fc_elem *e, double t)
+static double pressure_source_corner(const fc_elem *e, double t, int *smooth)
 {
   const pressure_source_param *P = e->param;
+  *smooth = fc_waveform_corners_smooth(P->rise);
   return fc_waveform_next_corner(P->rise, t);
 }
 

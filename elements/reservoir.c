@@ -54,9 +54,10 @@ static double reservoir_fix(const fc_elem *e, double t)
   return fc_waveform_eval(P->pressure, t) + P->head;
 }
 
-static double reservoir_corner(const fc_elem *e, double t)
+static double reservoir_corner(const fc_elem *e, double t, int *smooth)
 {
   const reservoir_param *P = e->param;
+  *smooth = fc_waveform_corners_smooth(P->pressure);
   return fc_waveform_next_corner(P->pressure, t);
 }
 

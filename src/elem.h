@@ -132,8 +132,9 @@ struct fc_elem_type {
   void (*xInfo)(const fc_elem *e, const fci_fluid *fluid, fci_info *info);
 
   /* Optional: the first time > t where the element's forcing has a derivative jump, else
-   * +INFINITY (waveform corners); the integrator stops there. */
-  double (*xCorner)(const fc_elem *e, double t);
+   * +INFINITY (waveform corners); the integrator stops there. *smooth: 1 if only the second or
+   * a higher derivative jumps there (fc_waveform_corners_smooth), so no restart is needed. */
+  double (*xCorner)(const fc_elem *e, double t, int *smooth);
 
   /* Optional (v2): 1 if the instance's law, in its current mode, is linear with constant
    * coefficients and no own states, with the coefficients in k; 0 if not. FLOW: q = k[0] +

@@ -56,7 +56,8 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
     const fc_elem *e = &net->elem[i];
     /* Only elements with a corner somewhere: a chamber without a driven backing has none, and
      * asking each of 25 000 of them at every step cost 5 % of a large run. */
-    if (e->type->xCorner && e->type->xCorner(e, 0.0) < INFINITY) R->corner_el[R->ncorner++] = i;
+    int sm;
+    if (e->type->xCorner && e->type->xCorner(e, 0.0, &sm) < INFINITY) R->corner_el[R->ncorner++] = i;
     int tracked = e->nRoot > 0 || e->culture || e->type->xCorner;
     for (int k = 0; !tracked && k < net->report.nTrack; k++) tracked = net->report.track[k] == i;
     R->qoff[i] = e->nTerm == 2 && tracked ? R->nq : -1;
@@ -159,14 +160,18 @@ double fci_run_next_stop(const fci_run *R, double t, int *smooth)
   if (R->next_cycle < ts) ts = R->next_cycle;
   double tr = fci_cycles_next_release(R, t);
   if (tr < ts) ts = tr;
+  /* The earliest corner; smooth only if every corner that falls on it (within rounding) is. */
   double tc = INFINITY;
+  int sm = 1;
   for (int k = 0; k < R->ncorner; k++) {
     const fc_elem *e = &R->net->elem[R->corner_el[k]];
-    double c = e->type->xCorner(e, t * (1 + 1e-14) + 1e-300);
-    if (c < tc) tc = c;
+    int s1;
+    double c = e->type->xCorner(e, t * (1 + 1e-14) + 1e-300, &s1);
+    if (c < tc * (1 - 1e-12)) { sm = s1; tc = c; }
+    else if (c <= tc * (1 + 1e-12)) { sm &= s1; if (c < tc) tc = c; }
   }
   /* A corner within rounding of a hard stop is that stop (a pulse starting on a cycle). */
-  *smooth = tc < ts * (1 - 1e-12);
+  *smooth = sm && tc < ts * (1 - 1e-12);
   return tc < ts ? tc : ts;
 }
 
@@ -233,7 +238,11 @@ int fci_run_events(fci_run *R, double t, const double *x, const int *found, int 
   int rc = eval_or_fail(R, t, x, err);
   if (rc) return rc;
   *changed = 0;
-  for (int k = 0; k < R->nsign; k++) *changed |= found[s->nroot + k] != 0; /* restart only */
+  /* A flow-sign root only marks the kink of a reverse-volume integrand, but it restarts all the
+   * same: a flow that then stays at exactly zero (a stagnant branch) would otherwise be a root
+   * "found at and very near" the last one, which CVODES rejects (CV_ILL_INPUT); a restart
+   * deactivates such a root until it moves away. */
+  for (int k = 0; k < R->nsign; k++) *changed |= found[s->nroot + k] != 0;
   for (int i = 0; i < s->nE; i++) {
     fc_elem *e = &R->net->elem[i];
     if (!e->nRoot || !e->type->xEvent) continue;

@@ -84,11 +84,11 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
 void fci_run_free(fci_run *R);
 /* At t = 0: first sample and extremes; yq holds the zeroed quadratures. */
 int fci_run_begin(fci_run *R, const double *yq, fc_error *err);
-/* Earliest of the duration, the next cycle boundary and the next waveform corner after t. */
 /* The next time the integrator must stop at, after t. *smooth is set when it is only a waveform
- * corner: every waveform is continuous (waveform.h), so the right-hand side is too and the
- * integrator steps on from it without a restart; a cycle boundary, a hold release or the end
- * clear it. */
+ * corner where the forcing's first derivative is continuous (fc_waveform_corners_smooth): the
+ * integrator steps on from it without a restart. A derivative jump (a kink in every flow of a
+ * resistive path, and in the integrands of the volume quadratures), a cycle boundary, a hold
+ * release or the end clear it. */
 double fci_run_next_stop(const fci_run *R, double t, int *smooth);
 /* If a sample is due at or before t, set *ts and return 1 (the sample is then consumed by
  * fci_run_sample). */

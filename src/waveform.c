@@ -190,6 +190,10 @@ double fc_waveform_next_corner(const fc_waveform *w, double t)
   }
 }
 
+/* A raised-cosine ramp L + (H - L)(1 - cos(pi tau / R))/2 has zero slope at both ends; with
+ * R = 0 the pulse is a step and its edges are jumps of the value itself. */
+int fc_waveform_corners_smooth(const fc_waveform *w) { return w->shape == W_PULSE && w->rise > 0; }
+
 /* ---- parsing ---- */
 
 static int get_period(const cJSON *j, const char *alt, double *T, const char *path,

@@ -175,12 +175,14 @@ static void pulse_corners_are_ramp_ends(void **state)
   near(fc_waveform_next_corner(w, 0.7), 1.2, 1e-12);
   near(fc_waveform_next_corner(w, 1.2 - 1e-15), 1.3, 1e-12); /* just stopped at 1.2 */
   near(fc_waveform_next_corner(w, 100.65), 100.7, 1e-9);
+  assert_int_equal(fc_waveform_corners_smooth(w), 1); /* raised-cosine ramps: slope 0 at ends */
   fc_waveform_free(w);
   /* a step (rise 0) jumps at the edges and defaults duty 0.5 */
   w = wave("{\"shape\":\"pulse\",\"high\":1,\"period\":2,\"rise\":0}", FC_DIM_NONE);
   near(fc_waveform_eval(w, 0.5), 1.0, 0), near(fc_waveform_eval(w, 1.5), 0.0, 0);
   near(fc_waveform_next_corner(w, 0.0), 1.0, 1e-12);
   near(fc_waveform_next_corner(w, 1.0), 2.0, 1e-12);
+  assert_int_equal(fc_waveform_corners_smooth(w), 0); /* value jumps: the integrator restarts */
   fc_waveform_free(w);
 }
 
@@ -196,6 +198,7 @@ static void beat_half_sine_systole(void **state)
   near(simpson(w, 0.0, 1.0 / 3.0, 600) / P, 0.2122066, 1e-6); /* Q3, by quadrature */
   near(fc_waveform_eval(w, 1.0 / 6.0) / P, 1.0, 1e-6);        /* peak at S T/2 */
   near(fc_waveform_eval(w, 0.5), 0.0, 1e-20);                 /* diastole: base 0 */
+  assert_int_equal(fc_waveform_corners_smooth(w), 0);         /* slope jumps at ejection ends */
   near(fc_waveform_eval(w, 2.0 + 1.0 / 12.0) / P, sin(PI / 4), 1e-6); /* periodic */
   near(fc_waveform_next_corner(w, 0.0), 1.0 / 3.0, 1e-12);
   near(fc_waveform_next_corner(w, 1.0 / 3.0), 1.0, 1e-12);
@@ -217,6 +220,7 @@ static void table_interpolates_and_repeats(void **state)
   near(fc_waveform_eval(w, 0.5), 5.0, 1e-12);
   near(fc_waveform_eval(w, 2.0), 10.0, 1e-12);
   near(fc_waveform_eval(w, 3.5), 5.0, 1e-12);   /* back to v_first at t_first + T */
+  assert_int_equal(fc_waveform_corners_smooth(w), 0); /* linear pieces: slope jumps */
   near(fc_waveform_eval(w, 4.5), 5.0, 1e-12);   /* repeated */
   near(fc_waveform_eval(w, -0.5), 5.0, 1e-12);  /* and backwards */
   near(fc_waveform_deriv(w, 0.5), 10.0, 1e-12);

@@ -47,4 +47,9 @@ double fc_waveform_mean(const fc_waveform *w);
  * no step straddles a corner. */
 double fc_waveform_next_corner(const fc_waveform *w, double t);
 
+/* 1 if the waveform's first derivative is continuous at all its corners, so that only higher
+ * derivatives jump there (the raised-cosine ramps of a pulse); 0 if the derivative itself
+ * jumps (table points, the start and end of a beat's ejection). */
+int fc_waveform_corners_smooth(const fc_waveform *w);
+
 #endif
