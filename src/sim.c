@@ -223,12 +223,19 @@ static void collect_stats(cv *c, fc_sim_stats *st);
  * quadratures restart from zero too, their values folded into qacc: their relative tolerance
  * then applies to the volume since the last restart (at most one cycle), not to a running
  * total that grows with the number of cycles. */
-static int restart(cv *c, fci_run *R, double t)
+static int restart(cv *c, fci_run *R, double t, int soft)
 {
   R->res->stats.restarts++;
+  /* A soft restart (the solution is smooth through t: a cycle boundary, a flow-sign root) keeps
+   * the scale of the step it had: back at order 1 it takes half of it, and CVODE's error test
+   * corrects that if it must. Otherwise CVODE estimates a first step (CVodeSetInitStep 0),
+   * which after a valve switch is often 1e-9 s or less: the new transient needs it. */
+  double h0 = 0, hl = 0, hc = 0;
+  if (soft && !CVodeGetLastStep(c->mem, &hl) && !CVodeGetCurrentStep(c->mem, &hc))
+    h0 = 0.5 * (hl > hc ? hl : hc);
   collect_stats(c, &R->res->stats);
-  if (CVodeReInit(c->mem, t, c->y)) return FC_ESOLVE;
-  c->lsc.gamma = 0; /* the Jacobian may have changed with the mode: refactor */
+  if (CVodeSetInitStep(c->mem, h0) || CVodeReInit(c->mem, t, c->y)) return FC_ESOLVE;
+  if (!soft) c->lsc.gamma = 0; /* the Jacobian may have changed with the mode: refactor */
   if (R->nq) {
     memcpy(c->qacc, c->qtot, (size_t)R->nq * sizeof *c->qacc);
     N_VConst(0, c->yq);
@@ -289,8 +296,8 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
   int rc = fci_run_begin(R, c->qtot, err);
   while (!rc && !R->done && t < tend * (1 - 1e-15)) {
     if (stop_requested) { rc = fc_fail(err, FC_EINTR, NULL, "interrupted at t = %.9g s", t); break; }
-    int smooth;
-    double tstop = fci_run_next_stop(R, t, &smooth);
+    int kind;
+    double tstop = fci_run_next_stop(R, t, &kind);
     if (CVodeSetStopTime(c->mem, tstop)) { rc = fc_fail(err, FC_ESOLVE, NULL, "stop time"); break; }
     int flag = CVode(c->mem, tend, c->y, &t, CV_ONE_STEP);
     if (flag < 0) {
@@ -314,11 +321,11 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
     rc = fci_run_step_end(R, t, NV_DATA_S(c->y), c->qtot, t - t0, m, sp, err);
     if (rc) break;
     t0 = t;
-    int changed = 0;
+    int changed = 0, sign = 0;
     if (flag == CV_ROOT_RETURN) {
       int *found = R->rootsfound;
       CVodeGetRootInfo(c->mem, found);
-      rc = fci_run_events(R, t, NV_DATA_S(c->y), found, &changed, err);
+      rc = fci_run_events(R, t, NV_DATA_S(c->y), found, &changed, &sign, err);
       if (rc) break;
     }
     if (flag == CV_TSTOP_RETURN) {
@@ -326,12 +333,14 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
       if ((rc = fci_run_release(R, t, NV_DATA_S(c->y), &released, err))) break;
       changed |= released;
     }
-    /* A waveform corner only bends the forcing (the right-hand side stays continuous): the
-     * step ends on it, and BDF's error test sees the bend in the history and shortens the
+    /* A smooth waveform corner (FCI_STOP_SMOOTH) only bends the forcing's second derivative:
+     * the step ends on it, and BDF's error test sees the bend in the history and shortens the
      * next steps itself; a restart back to order 1 and a tiny first step would cost more
      * (docs/performance.md: 1/8 of the restarts and ~7 % of the steps of a pulsed tree). */
-    if (changed || (flag == CV_TSTOP_RETURN && !smooth)) {
-      if (restart(c, R, t)) { rc = fc_fail(err, FC_ESOLVE, NULL, "restart failed: %s", R->cv_msg); break; }
+    int stop = flag == CV_TSTOP_RETURN ? kind : -1;
+    if (changed || sign || stop > FCI_STOP_SMOOTH) {
+      int soft = !changed && (stop == FCI_STOP_REBASE || (stop < 0 && sign));
+      if (restart(c, R, t, soft)) { rc = fc_fail(err, FC_ESOLVE, NULL, "restart failed: %s", R->cv_msg); break; }
     }
     if (changed && (rc = fci_run_step_restart(R, t, NV_DATA_S(c->y), err))) break;
   }

@@ -154,12 +154,17 @@ int fci_run_begin(fci_run *R, const double *yq, fc_error *err)
   return emit(R, 0.0, err);
 }
 
-double fci_run_next_stop(const fci_run *R, double t, int *smooth)
+double fci_run_next_stop(const fci_run *R, double t, int *kind)
 {
   double ts = R->net->sim.duration;
-  if (R->next_cycle < ts) ts = R->next_cycle;
+  int hard = FCI_STOP_KINK;
+  if (R->next_cycle < ts * (1 + 1e-12)) {
+    /* the end on a cycle boundary (the usual whole number of cycles) is the end */
+    hard = R->next_cycle < ts * (1 - 1e-12) ? FCI_STOP_REBASE : FCI_STOP_KINK;
+    if (R->next_cycle < ts) ts = R->next_cycle;
+  }
   double tr = fci_cycles_next_release(R, t);
-  if (tr < ts) ts = tr;
+  if (tr < ts * (1 + 1e-12)) { hard = FCI_STOP_KINK; if (tr < ts) ts = tr; }
   /* The earliest corner; smooth only if every corner that falls on it (within rounding) is. */
   double tc = INFINITY;
   int sm = 1;
@@ -170,8 +175,10 @@ double fci_run_next_stop(const fci_run *R, double t, int *smooth)
     if (c < tc * (1 - 1e-12)) { sm = s1; tc = c; }
     else if (c <= tc * (1 + 1e-12)) { sm &= s1; if (c < tc) tc = c; }
   }
-  /* A corner within rounding of a hard stop is that stop (a pulse starting on a cycle). */
-  *smooth = sm && tc < ts * (1 - 1e-12);
+  /* A corner within rounding of another stop is that stop too (a pulse starting on a cycle). */
+  int ck = sm ? FCI_STOP_SMOOTH : FCI_STOP_KINK;
+  if (tc < ts * (1 - 1e-12)) { *kind = ck; return tc; }
+  *kind = tc <= ts * (1 + 1e-12) && ck > hard ? ck : hard;
   return tc < ts ? tc : ts;
 }
 
@@ -232,17 +239,18 @@ int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, do
 }
 
 int fci_run_events(fci_run *R, double t, const double *x, const int *found, int *changed,
-                   fc_error *err)
+                   int *sign, fc_error *err)
 {
   fci_sys *s = R->sys;
   int rc = eval_or_fail(R, t, x, err);
   if (rc) return rc;
   *changed = 0;
   /* A flow-sign root only marks the kink of a reverse-volume integrand, but it restarts all the
-   * same: a flow that then stays at exactly zero (a stagnant branch) would otherwise be a root
-   * "found at and very near" the last one, which CVODES rejects (CV_ILL_INPUT); a restart
-   * deactivates such a root until it moves away. */
-  for (int k = 0; k < R->nsign; k++) *changed |= found[s->nroot + k] != 0;
+   * same (a soft restart, sim.c): a flow that then stays at exactly zero (a stagnant branch)
+   * would otherwise be a root "found at and very near" the last one, which CVODES rejects
+   * (CV_ILL_INPUT); a restart deactivates such a root until it moves away. */
+  *sign = 0;
+  for (int k = 0; k < R->nsign; k++) *sign |= found[s->nroot + k] != 0;
   for (int i = 0; i < s->nE; i++) {
     fc_elem *e = &R->net->elem[i];
     if (!e->nRoot || !e->type->xEvent) continue;

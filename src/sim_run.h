@@ -84,12 +84,18 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
 void fci_run_free(fci_run *R);
 /* At t = 0: first sample and extremes; yq holds the zeroed quadratures. */
 int fci_run_begin(fci_run *R, const double *yq, fc_error *err);
-/* The next time the integrator must stop at, after t. *smooth is set when it is only a waveform
- * corner where the forcing's first derivative is continuous (fc_waveform_corners_smooth): the
- * integrator steps on from it without a restart. A derivative jump (a kink in every flow of a
- * resistive path, and in the integrands of the volume quadratures), a cycle boundary, a hold
- * release or the end clear it. */
-double fci_run_next_stop(const fci_run *R, double t, int *smooth);
+/* What a stop is, from the mildest: */
+enum {
+  FCI_STOP_SMOOTH, /* a waveform corner where the forcing's first derivative is continuous
+                    * (fc_waveform_corners_smooth): the integrator steps on, no restart */
+  FCI_STOP_REBASE, /* a cycle boundary: the solution is smooth, the restart only re-bases the
+                    * quadratures, and may start from the step size it had */
+  FCI_STOP_KINK    /* a derivative jump (a kink in every flow of a resistive path and in the
+                    * quadratures' integrands), a hold release, the end: a full restart */
+};
+/* The next time the integrator must stop at, after t; *kind (FCI_STOP_*) is that of the most
+ * severe stop falling on it. */
+double fci_run_next_stop(const fci_run *R, double t, int *kind);
 /* If a sample is due at or before t, set *ts and return 1 (the sample is then consumed by
  * fci_run_sample). */
 int fci_run_pending_sample(fci_run *R, double t, double *ts);
@@ -98,9 +104,10 @@ int fci_run_sample(fci_run *R, double ts, const double *x, fc_error *err);
  * fci_run_step_point): step integrals, extremes, cycle boundaries. */
 int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, double h, int m,
                      const double *s, fc_error *err);
-/* At a root: let elements switch mode; *changed = 1 if any did. */
+/* At a root return: switch the modes of the elements whose roots were found (*changed = 1 if
+ * one switched) and note whether a flow-sign root was among them (*sign = 1). */
 int fci_run_events(fci_run *R, double t, const double *x, const int *found, int *changed,
-                   fc_error *err);
+                   int *sign, fc_error *err);
 /* Final sample and means. */
 int fci_run_finish(fci_run *R, double t, const double *x, const double *yq, fc_error *err);
 /* Step integrals (src/sim_steps.c). fci_steps_points: interior points in (0, 1) for a step

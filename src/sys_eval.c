@@ -71,10 +71,9 @@ static void update_flows(fci_sys *s)
 /* Conservation F_i = qin at each ALG node; dF/dz from the element partials. */
 static int assemble_G(fci_sys *s)
 {
-  const fc_net *net = s->net;
   memset(s->G.val, 0, (size_t)s->G.nnz * sizeof *s->G.val);
-  for (int i = 0; i < s->nE; i++) {
-    if (net->elem[i].role != FC_ROLE_FLOW) continue;
+  for (int f = 0; f < s->nflow; f++) {
+    int i = s->flow_el[f];
     const int *sl = s->gslot + 4 * i;
     double d[2] = {s->dqa[i], s->dqb[i]};
     for (int t = 0; t < 2; t++)
@@ -197,9 +196,8 @@ int fci_sys_rhs_from_eval(fci_sys *s, double t, const double *x, double *xdot)
   const fc_net *net = s->net;
   double J[FCI_MAX_OWN * (2 + FCI_MAX_OWN)];
   for (int k = 0; k < s->ns; k++) xdot[k] = s->qin[s->xnode[k]]; /* dV/dt = sum of inflows */
-  for (int i = 0; i < s->nE; i++) {
-    const fc_elem *e = &net->elem[i];
-    if (!e->nState) continue;
+  for (int j = 0; j < s->nstate_el; j++) {
+    const fc_elem *e = &net->elem[s->state_el[j]];
     double pp[2] = {s->p[e->node[0]], s->p[e->node[1]]};
     int rc = e->type->xRhs(e, t, pp, x + e->iState, xdot + e->iState, J);
     if (rc) return rc;
@@ -210,9 +208,8 @@ int fci_sys_rhs_from_eval(fci_sys *s, double t, const double *x, double *xdot)
 void fci_sys_roots(fci_sys *s, double t, const double *x, double *g)
 {
   const fc_net *net = s->net;
-  for (int i = 0; i < s->nE; i++) {
-    const fc_elem *e = &net->elem[i];
-    if (!e->nRoot) continue;
+  for (int j = 0; j < s->nroot_el; j++) {
+    const fc_elem *e = &net->elem[s->root_el[j]];
     double pp[2] = {s->p[e->node[0]], e->nTerm == 2 ? s->p[e->node[1]] : 0};
     e->type->xRoot(e, t, pp, e->nState ? x + e->iState : NULL, g + e->iRoot);
   }
@@ -246,9 +243,9 @@ static void stamp_aug(fci_sys *s, double t, const double *x, double gamma, int s
   for (int r = 0; r < s->nx; r++, k++) {
     A[s->aslot[k]] += steady ? 0 : r < s->ns ? s->Cpre[r] : 1;
   }
-  for (int i = 0; i < s->nE; i++) {
+  for (int f = 0; f < s->nflow; f++) {
+    int i = s->flow_el[f];
     const fc_elem *e = &net->elem[i];
-    if (e->role != FC_ROLE_FLOW) continue;
     int kind[2] = {s->kind[e->node[0]], s->kind[e->node[1]]};
     double d[2] = {s->dqa[i], s->dqb[i]}, *dx = s->dqx + FCI_MAX_OWN * i;
     for (int t2 = 0; t2 < 2; t2++) {

@@ -19,12 +19,17 @@ int fci_sys_linear_build(fci_sys *s)
   const fc_net *net = s->net;
   if (!NEW(s->ea, s->nE) || !NEW(s->eb, s->nE) || !NEW(s->lin_el, s->nE) ||
       !NEW(s->lin_a, s->nE) || !NEW(s->lin_b, s->nE) || !NEW(s->lin_k, 3 * (size_t)s->nE) ||
-      !NEW(s->gen_el, s->nE) || !NEW(s->Cconst, s->ns))
+      !NEW(s->gen_el, s->nE) || !NEW(s->Cconst, s->ns) || !NEW(s->flow_el, s->nE) ||
+      !NEW(s->state_el, s->nE) || !NEW(s->root_el, s->nE))
     return FC_ENOMEM;
+  s->nflow = s->nstate_el = s->nroot_el = 0;
   for (int i = 0; i < s->nE; i++) {
     const fc_elem *e = &net->elem[i];
     s->ea[i] = e->node[0];
     s->eb[i] = e->nTerm == 2 ? e->node[1] : -1;
+    if (e->role == FC_ROLE_FLOW) s->flow_el[s->nflow++] = i;
+    if (e->nState) s->state_el[s->nstate_el++] = i;
+    if (e->nRoot) s->root_el[s->nroot_el++] = i;
   }
   s->ldirty = 1;
   return FC_OK;
@@ -33,16 +38,17 @@ int fci_sys_linear_build(fci_sys *s)
 void fci_sys_linear_free(fci_sys *s)
 {
   fc_free(s->ea); fc_free(s->eb); fc_free(s->lin_el); fc_free(s->lin_a); fc_free(s->lin_b);
-  fc_free(s->lin_k); fc_free(s->gen_el); fc_free(s->Cconst);
+  fc_free(s->lin_k); fc_free(s->gen_el); fc_free(s->Cconst); fc_free(s->flow_el);
+  fc_free(s->state_el); fc_free(s->root_el);
 }
 
 void fci_sys_linear_refresh(fci_sys *s)
 {
   const fc_net *net = s->net;
   s->nlin = s->ngen = 0;
-  for (int i = 0; i < s->nE; i++) {
+  for (int f = 0; f < s->nflow; f++) {
+    int i = s->flow_el[f];
     const fc_elem *e = &net->elem[i];
-    if (e->role != FC_ROLE_FLOW) continue;
     double k[3];
     if (e->nState || !e->type->xLinear || !e->type->xLinear(e, k)) {
       s->gen_el[s->ngen++] = i;
