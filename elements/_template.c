@@ -76,6 +76,7 @@ static void template_info(const fc_elem *e, const fci_fluid *fluid, fci_info *in
   const template_param *P = e->param;
   (void)fluid;
   info->resistance = P->R;
+  if (info->no_text) return;
   snprintf(info->text, sizeof info->text, "template: R = %.4g Pa s/m^3", P->R);
 }
 

@@ -202,6 +202,7 @@ static void chamber_info(const fc_elem *e, const fci_fluid *fluid, fci_info *inf
   (void)fluid;
   info->compliance = compliance_at(P, 0.0, &dC);
   info->period = P->back ? fc_waveform_period(P->back) : 0.0;
+  if (info->no_text) return;
   snprintf(info->text, sizeof info->text, "chamber: %s compliance %.4g m^3/Pa at 0 Pa%s",
            kind[P->kind], info->compliance, P->back ? ", driven backing pressure" : "");
 }

@@ -171,6 +171,7 @@ static void channel_info(const fc_elem *e, const fci_fluid *fluid, fci_info *inf
   info->resistance = P->R;
   info->inertance = P->inertial ? P->Lh : 0.0;
   info->shear_per_flow = P->shear;
+  if (info->no_text) return;
   if (P->diameter > 0)
     snprintf(info->text, sizeof info->text,
              "channel: bore %.4g m, length %.4g m, R = %.4g Pa s/m^3, Lh = %.4g Pa s^2/m^3%s",

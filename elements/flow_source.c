@@ -55,6 +55,7 @@ static void flow_source_info(const fc_elem *e, const fci_fluid *fluid, fci_info 
   const flow_source_param *P = e->param;
   (void)fluid;
   info->period = fc_waveform_period(P->flow);
+  if (info->no_text) return;
   snprintf(info->text, sizeof info->text, "flow source: mean %.4g m^3/s, period %.4g s",
            fc_waveform_mean(P->flow), info->period);
 }

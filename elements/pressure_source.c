@@ -74,6 +74,7 @@ static void pressure_source_info(const fc_elem *e, const fci_fluid *fluid, fci_i
   (void)fluid;
   info->resistance = P->R;
   info->period = fc_waveform_period(P->rise);
+  if (info->no_text) return;
   snprintf(info->text, sizeof info->text,
            "pressure source: mean rise %.4g Pa, period %.4g s, internal R %.4g Pa s/m^3%s",
            fc_waveform_mean(P->rise), info->period, P->R, P->R > 0 ? "" : " (ideal)");

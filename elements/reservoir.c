@@ -66,6 +66,7 @@ static void reservoir_info(const fc_elem *e, const fci_fluid *fluid, fci_info *i
   const reservoir_param *P = e->param;
   (void)fluid;
   info->period = fc_waveform_period(P->pressure);
+  if (info->no_text) return;
   snprintf(info->text, sizeof info->text,
            "reservoir: mean surface pressure %.4g Pa + head %.4g Pa (liquid %.4g m above port)",
            fc_waveform_mean(P->pressure), P->head, P->height);

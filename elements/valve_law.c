@@ -109,6 +109,7 @@ void fci_valve_law_info(const fci_valve_law *L, fci_info *info, const char *kind
   info->resistance = L->R_open;
   info->blowout_forward = isfinite(L->blow_f) ? L->blow_f : 0;
   info->blowout_reverse = isfinite(L->blow_r) ? L->blow_r : 0;
+  if (info->no_text) return;
   snprintf(info->text, sizeof info->text, "%s: crack %.4g / %.4g Pa, reseat %.4g / %.4g Pa, "
            "blowout %.4g / %.4g Pa, R_open %.3g Pa s/m^3", kind, L->crack_f, L->crack_r,
            L->reseat_f, L->reseat_r, L->blow_f, L->blow_r, L->R_open);

@@ -80,6 +80,8 @@ typedef struct fci_info {
   double blowout_forward;    /* valves: |dp| at which it is lost for good, from->to [Pa]; 0 none */
   double blowout_reverse;    /* the same for to->from [Pa] */
   char   text[160];          /* one-line human description, SI */
+  int    no_text;            /* set by a caller that needs only the numbers: text may stay
+                              * empty (formatting it costs more than the rest, per element) */
 } fci_info;
 
 struct fc_elem_type {

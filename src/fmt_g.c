@@ -61,16 +61,17 @@ static int scale(double d, int k, double *s)
 #endif
 }
 
-/* Writes the digits of r (exactly 9, r in [10^8, 10^9)) with decimal exponent X, %g style. */
-static int layout(char *buf, int neg, uint32_t r, int X)
+/* Writes the P digits of c (10^(P-1) <= c < 10^P, P <= 17) with decimal exponent X, as
+ * "%.Pg" lays them out (shared with src/fmt_short.c). */
+int fci_fmt_layout(char *buf, int neg, uint64_t c, int P, int X)
 {
-  char dig[9];
-  for (int i = 8; i >= 0; i--) { dig[i] = (char)('0' + r % 10); r /= 10; }
-  int nd = 9;
+  char dig[17];
+  for (int i = P - 1; i >= 0; i--) { dig[i] = (char)('0' + c % 10); c /= 10; }
+  int nd = P;
   while (nd > 1 && dig[nd - 1] == '0') nd--;
   char *o = buf;
   if (neg) *o++ = '-';
-  if (X < -4 || X >= 9) {
+  if (X < -4 || X >= P) {
     *o++ = dig[0];
     if (nd > 1) {
       *o++ = '.';
@@ -119,5 +120,5 @@ int fci_fmt_g9(char *buf, double v)
   if (fabs(frac - 0.5) < 1e-6) return slow(buf, v);
   uint32_t r = fl + (frac > 0.5);
   if (r >= 1000000000u) { r = 100000000u; X++; }
-  return layout(buf, neg, r, X);
+  return fci_fmt_layout(buf, neg, r, 9, X);
 }

@@ -1,6 +1,8 @@
 /* ferrocirc — streamed JSON text (see json_write.h). */
 #include "json_write.h"
 
+#include "fmt_g.h"
+
 #include <math.h>
 #include <stdlib.h>
 
@@ -87,17 +89,10 @@ void fci_jw_end(fci_jw *w)
   putc('}', w->f);
 }
 
-int fci_jw_format_double(char *buf, double v)
-{
-  /* The shortest of 15, 16, 17 significant digits that round-trips: 17 always does for IEEE
-   * binary64 (C11 5.2.4.2.2, DBL_DECIMAL_DIG), 15 is the most that every decimal survives. */
-  int n = 0;
-  for (int prec = 15; prec <= 17; prec++) {
-    n = snprintf(buf, 32, "%.*g", prec, v);
-    if (prec == 17 || strtod(buf, NULL) == v) break;
-  }
-  return n;
-}
+/* The shortest of 15, 16, 17 significant digits that round-trips: 17 always does for IEEE
+ * binary64 (C11 5.2.4.2.2, DBL_DECIMAL_DIG), 15 is the most that every decimal survives.
+ * fci_fmt_shortest gives that loop's text without printf (src/fmt_short.c). */
+int fci_jw_format_double(char *buf, double v) { return fci_fmt_shortest(buf, v); }
 
 void fci_jw_number(fci_jw *w, const char *key, double v)
 {

@@ -56,7 +56,7 @@ static int source_period(const fc_net *net, double *period, const char **second)
   *second = NULL;
   for (int i = 0; i < net->nElem; i++) {
     const fc_elem *e = &net->elem[i];
-    fci_info info = {0};
+    fci_info info = {.no_text = 1};
     if (!e->type->xInfo) continue;
     e->type->xInfo(e, &net->fluid, &info);
     if (info.period <= 0) continue;

@@ -27,7 +27,7 @@ int fci_summary_tracked(const fc_net *net, int i)
 void fci_summary_cycle(const fc_net *net, const fc_sim_result *r, int c, int i, fci_cycle_row *o)
 {
   size_t k = (size_t)c * r->nElem + i;
-  fci_info info = {0};
+  fci_info info = {.no_text = 1};
   const fc_elem *e = &net->elem[i];
   if (e->type->xInfo) e->type->xInfo(e, &net->fluid, &info);
   o->v_net = r->cyc_v_net[k];

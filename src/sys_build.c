@@ -78,7 +78,7 @@ static int classify(fci_sys *s, fc_error *err)
 
 static int resistive(const fc_net *net, const fc_elem *e)
 {
-  fci_info info = {0};
+  fci_info info = {.no_text = 1};
   if (e->role != FC_ROLE_FLOW || e->nState > 0 || !e->type->xInfo) return 0;
   e->type->xInfo(e, &net->fluid, &info);
   return info.resistance > 0;
@@ -89,19 +89,22 @@ static int check_determined(fci_sys *s, fc_error *err)
 {
   fc_net *net = s->net;
   int *adjp = NULL, *adj = NULL, *fill = NULL, *queue = NULL, rc = FC_OK, head = 0, tail = 0;
-  if (!NEW(adjp, s->nN + 1) || !NEW(adj, 2 * s->nE) || !NEW(fill, s->nN) || !NEW(queue, s->nN)) {
+  char *res = NULL; /* resistive(), asked once per element: xInfo also formats a description */
+  if (!NEW(adjp, s->nN + 1) || !NEW(adj, 2 * s->nE) || !NEW(fill, s->nN) || !NEW(queue, s->nN) ||
+      !NEW(res, s->nE)) {
     rc = fc_fail(err, FC_ENOMEM, NULL, "out of memory");
     goto done;
   }
+  for (int i = 0; i < s->nE; i++) res[i] = (char)resistive(net, &net->elem[i]);
   for (int i = 0; i < s->nE; i++)
-    if (resistive(net, &net->elem[i])) {
+    if (res[i]) {
       adjp[net->elem[i].node[0] + 1]++;
       adjp[net->elem[i].node[1] + 1]++;
     }
   for (int n = 0; n < s->nN; n++) adjp[n + 1] += adjp[n];
   for (int i = 0; i < s->nE; i++) {
     const fc_elem *e = &net->elem[i];
-    if (!resistive(net, e)) continue;
+    if (!res[i]) continue;
     for (int t = 0; t < 2; t++) adj[adjp[e->node[t]] + fill[e->node[t]]++] = e->node[1 - t];
   }
   int *seen = fill;
@@ -122,7 +125,7 @@ static int check_determined(fci_sys *s, fc_error *err)
       break;
     }
 done:
-  fc_free(adjp); fc_free(adj); fc_free(fill); fc_free(queue);
+  fc_free(adjp); fc_free(adj); fc_free(fill); fc_free(queue); fc_free(res);
   return rc;
 }
 
