@@ -58,6 +58,8 @@ typedef struct fci_run {
   int *sign_el;              /* elements whose flow sign is a root function (nsign) */
   int nsign;
   int nroot_all;             /* element roots + flow-sign roots */
+  double *atol, *wscale;     /* the integrator's per-state absolute tolerances and error-weight
+                              * factors (owned by src/sim.c) */
 } fci_run;
 
 /* Flow-sign roots, after the elements' own: g[k] = q of sign_el[k]. */
