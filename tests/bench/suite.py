@@ -62,7 +62,7 @@ CIRCUITS = {
 }
 # ngspice settings are (reltol, largest step as a fraction of the period): its switch instants
 # and its output-point means are only as good as its steps, so both are tightened.
-LADDER = {"ferrocirc": [1e-4, 1e-5, 1e-6, 1e-7, 1e-8], "scipy": [1e-4, 1e-6, 1e-8],
+LADDER = {"ferrocirc": [1e-2, 1e-3, 1e-4, 1e-5, 1e-6, 1e-7, 1e-8], "scipy": [1e-4, 1e-6, 1e-8],
           "ngspice": [(1e-4, 0.02), (1e-5, 0.02), (1e-6, 0.02), (1e-6, 0.002), (1e-7, 0.002),
                       (1e-7, 0.0002)]}
 QUICK_LADDER = {"ferrocirc": [1e-5, 1e-7], "scipy": [1e-6], "ngspice": [(1e-6, 0.02)]}
