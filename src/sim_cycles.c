@@ -30,9 +30,8 @@ int fci_cycles_init(fci_run *R)
   size_t nc = r->cycle_period > 0 ? (size_t)floor(R->net->sim.duration / r->cycle_period + 1e-9) : 0;
   if (!NEW(R->c_open, E) || !NEW(R->c_dpmax, E) || !NEW(R->c_dpmin, E) || !NEW(R->c_qmax, E) ||
       !NEW(R->c_qmin, E) || !NEW(R->c_pmin, N) || !NEW(R->c_pmax, N) || !NEW(R->mode_el, E) ||
-      !NEW(R->win_start, E) || !NEW(R->win_count, E) || !NEW(r->cyc_open, nc * E) ||
-      !NEW(r->cyc_dp_max, nc * E) || !NEW(r->cyc_dp_min, nc * E) || !NEW(r->cyc_q_max, nc * E) ||
-      !NEW(r->cyc_q_min, nc * E) || !NEW(r->cyc_p_min, nc * N) || !NEW(r->cyc_p_max, nc * N) ||
+      !NEW(R->win_start, E) || !NEW(R->win_count, E) ||
+      !NEW(r->cyc_p_min, nc * N) || !NEW(r->cyc_p_max, nc * N) ||
       !NEW(r->cyc_p_mean, nc * N) || !NEW(r->blown_elem, E) || !NEW(r->blown_time, E) ||
       !NEW(R->ph1, N) || !NEW(R->ph2, N))
     return FC_ENOMEM;
@@ -127,7 +126,7 @@ static double periodic_change(const fc_sim_result *r, int c)
   double dmax = 0, vmax = 0;
   int E = r->nElem;
   for (int i = 0; i < E; i++) {
-    double a = r->cyc_v_net[(size_t)c * E + i], b = r->cyc_v_net[(size_t)(c - 1) * E + i];
+    double a = r->cyc_v_net[fc_sim_cycle_at(r, c, i)], b = r->cyc_v_net[fc_sim_cycle_at(r, c - 1, i)];
     if (isnan(a)) continue;
     if (fabs(a - b) > dmax) dmax = fabs(a - b);
     if (fabs(a) > vmax) vmax = fabs(a);
@@ -142,7 +141,7 @@ static void close_cycle(fci_run *R, const double *yq)
   int c = r->nCycle, E = net->nElem, N = net->nNode;
   const fci_steps *S = &R->steps;
   for (int i = 0; i < E; i++) {
-    size_t k = (size_t)c * E + i;
+    size_t k = fc_sim_cycle_at(r, c, i);
     int o = R->qoff[i], two = net->elem[i].nTerm == 2;
     r->cyc_v_net[k] = o >= 0 ? yq[o] - R->vq_cycle[o] : two ? S->cq[i] : NAN;
     r->cyc_v_back[k] = o >= 0 ? yq[o + 1] - R->vq_cycle[o + 1] : two ? S->cb[i] : NAN;

@@ -7,6 +7,18 @@
 
 #define NEW(ptr, n) ((ptr) = fc_calloc((size_t)(n) > 0 ? (size_t)(n) : 1, sizeof *(ptr)))
 
+/* Elements with modes, forcing or a culture role, and those in report.track: every cycle of
+ * theirs is kept in the result (the summary reports them cycle by cycle), and the volumes of
+ * the two-terminal ones are CVODES quadratures, their flow signs roots. */
+static int tracked(const fc_net *net, int i)
+{
+  const fc_elem *e = &net->elem[i];
+  if (e->nRoot > 0 || e->culture || e->type->xCorner) return 1;
+  for (int k = 0; k < net->report.nTrack; k++)
+    if (net->report.track[k] == i) return 1;
+  return 0;
+}
+
 static int alloc_result(fci_run *R)
 {
   fc_sim_result *r = fc_calloc(1, sizeof *r);
@@ -20,7 +32,15 @@ static int alloc_result(fci_run *R)
       !NEW(r->v_stored, N) || !NEW(r->v_inflow, N))
     return FC_ENOMEM;
   int ncyc = r->cycle_period > 0 ? (int)floor(R->net->sim.duration / r->cycle_period + 1e-9) : 0;
-  if (!NEW(r->cyc_v_net, (size_t)ncyc * E) || !NEW(r->cyc_v_back, (size_t)ncyc * E)) return FC_ENOMEM;
+  r->nCycleMax = ncyc;
+  if (!NEW(r->cyc_row, E)) return FC_ENOMEM;
+  r->nKeep = 0;
+  for (int i = 0; i < E; i++) r->cyc_row[i] = tracked(R->net, i) ? r->nKeep++ : -1;
+  size_t m = (size_t)FC_SIM_CYCLE_RING * E + (size_t)ncyc * r->nKeep;
+  if (!NEW(r->cyc_v_net, m) || !NEW(r->cyc_v_back, m) || !NEW(r->cyc_open, m) ||
+      !NEW(r->cyc_dp_max, m) || !NEW(r->cyc_dp_min, m) || !NEW(r->cyc_q_max, m) ||
+      !NEW(r->cyc_q_min, m))
+    return FC_ENOMEM;
   for (int n = 0; n < N; n++) { r->p_min[n] = INFINITY; r->p_max[n] = -INFINITY; }
   for (int i = 0; i < E; i++) {
     int two = R->net->elem[i].nTerm == 2;
@@ -58,11 +78,10 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
      * asking each of 25 000 of them at every step cost 5 % of a large run. */
     int sm;
     if (e->type->xCorner && e->type->xCorner(e, 0.0, &sm) < INFINITY) R->corner_el[R->ncorner++] = i;
-    int tracked = e->nRoot > 0 || e->culture || e->type->xCorner;
-    for (int k = 0; !tracked && k < net->report.nTrack; k++) tracked = net->report.track[k] == i;
-    R->qoff[i] = e->nTerm == 2 && tracked ? R->nq : -1;
+    int tr = e->nTerm == 2 && tracked(net, i);
+    R->qoff[i] = tr ? R->nq : -1;
     if (R->qoff[i] >= 0) R->nq += 2;
-    if (e->nTerm == 2 && e->role == FC_ROLE_FLOW && tracked) R->sign_el[R->nsign++] = i;
+    if (e->role == FC_ROLE_FLOW && tr) R->sign_el[R->nsign++] = i;
   }
   R->nroot_all = s->nroot + R->nsign;
   if (!NEW(R->rootsfound, R->nroot_all) || !NEW(R->qpn, net->nNode) ||
@@ -99,6 +118,7 @@ void fc_sim_result_free(fc_sim_result *r)
   fc_free(r->v_inflow); fc_free(r->cyc_v_net); fc_free(r->cyc_v_back); fc_free(r->cyc_open);
   fc_free(r->cyc_dp_max); fc_free(r->cyc_dp_min); fc_free(r->cyc_q_max); fc_free(r->cyc_q_min);
   fc_free(r->cyc_p_min); fc_free(r->cyc_p_max); fc_free(r->cyc_p_mean); fc_free(r->blown_elem);
+  fc_free(r->cyc_row);
   fc_free(r->blown_time);
   fc_free(r);
 }

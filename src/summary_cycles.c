@@ -26,7 +26,7 @@ int fci_summary_tracked(const fc_net *net, int i)
 
 void fci_summary_cycle(const fc_net *net, const fc_sim_result *r, int c, int i, fci_cycle_row *o)
 {
-  size_t k = (size_t)c * r->nElem + i;
+  size_t k = fc_sim_cycle_at(r, c, i);
   fci_info info = {.no_text = 1};
   const fc_elem *e = &net->elem[i];
   if (e->type->xInfo) e->type->xInfo(e, &net->fluid, &info);

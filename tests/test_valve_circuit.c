@@ -222,11 +222,12 @@ static rect_err rectifier_case(double cr, double rr, const char *extra)
   const double P = 1000, w = 2 * PI, Rt = 1e11 + 4e11;
   double vf = arc_volume(P, 200, 50, w, Rt); /* closed form above */
   double vb = cr < P ? arc_volume(P, cr, rr, w, Rt) : 0.0;
-  int iv = elem_of(V, "valve"), E = V->res->nElem;
+  int iv = elem_of(V, "valve");
   e.ncyc = V->res->nCycle;
   e.nev = V->nev;
   for (int c = 0; c < V->res->nCycle; c++) {
-    double vnet = V->res->cyc_v_net[c * E + iv], vbk = V->res->cyc_v_back[c * E + iv];
+    size_t k = fc_sim_cycle_at(V->res, c, iv);
+    double vnet = V->res->cyc_v_net[k], vbk = V->res->cyc_v_back[k];
     e.net = fmax(e.net, fabs(vnet - (vf - vb)) / vf);
     e.back = fmax(e.back, vb > 0 ? relerr(vbk, vb) : 0);
     e.back_abs = fmax(e.back_abs, fabs(vbk - vb));
@@ -482,7 +483,7 @@ static double cycle_change(const fc_sim_result *r, int c)
 {
   double d = 0, v = 0;
   for (int i = 0; i < r->nElem; i++) {
-    double a = r->cyc_v_net[c * r->nElem + i], b = r->cyc_v_net[(c - 1) * r->nElem + i];
+    double a = r->cyc_v_net[fc_sim_cycle_at(r, c, i)], b = r->cyc_v_net[fc_sim_cycle_at(r, c - 1, i)];
     if (isnan(a)) continue;
     d = fmax(d, fabs(a - b));
     v = fmax(v, fabs(a));
@@ -544,11 +545,12 @@ static void imposed_flow_volumes_per_cycle(void **state)
   assert_int_equal(V->rc_sim, FC_OK);
   const double Q0 = 50e-9 / 60, T = 0.25;
   const double vback = 0.2179956 * Q0 * T, vnet = Q0 * T; /* §11 Q1 */
-  int ip = elem_of(V, "pump"), E = V->res->nElem;
+  int ip = elem_of(V, "pump");
   double eb = 0, en = 0;
   for (int c = 0; c < V->res->nCycle; c++) {
-    eb = fmax(eb, relerr(V->res->cyc_v_back[c * E + ip], vback));
-    en = fmax(en, relerr(V->res->cyc_v_net[c * E + ip], vnet));
+    size_t k = fc_sim_cycle_at(V->res, c, ip);
+    eb = fmax(eb, relerr(V->res->cyc_v_back[k], vback));
+    en = fmax(en, relerr(V->res->cyc_v_net[k], vnet));
   }
   print_message("imposed sine flow over %d cycles: V_net rel err %.2e, V_back rel err %.2e "
                 "(want %.6e m^3)\n", V->res->nCycle, en, eb, vback);

@@ -9,6 +9,8 @@
 #ifndef FERROCIRC_SIM_H
 #define FERROCIRC_SIM_H
 
+#include <stddef.h>
+
 #include "ferrocirc/error.h"
 #include "ferrocirc/network.h"
 
@@ -39,11 +41,18 @@ typedef struct fc_sim_result {
   double *v_inflow;                 /* per node: integral of the net inflow [m^3] */
   int nCycle;                       /* complete cycles recorded */
   double cycle_period;              /* [s], 0 if none */
-  /* Per complete cycle c and element i, at [c * nElem + i] (NaN for one-terminal elements): */
+  int nCycleMax;                    /* cycles the record has room for */
+  /* Per complete cycle c and element i, at [fc_sim_cycle_at(r, c, i)] (NaN for one-terminal
+   * elements). Every cycle is kept for the tracked elements (valves, sources, culture chambers,
+   * report.track: cyc_row[i] >= 0); of the others only the last FC_SIM_CYCLE_RING cycles, so the
+   * record does not grow with cycles x elements (7 doubles each: 0.5 GB for 20 cycles of a
+   * 458 754-element network). */
   double *cyc_v_net, *cyc_v_back;   /* integral of q and of max(-q, 0) [m^3] */
   double *cyc_open;                 /* time spent in a nonzero mode (valve open or blown) [s] */
   double *cyc_dp_max, *cyc_dp_min;  /* extremes of p(from) - p(to) [Pa] */
   double *cyc_q_max, *cyc_q_min;    /* extremes of q [m^3/s] */
+  int *cyc_row;                     /* per element: its row of the kept cycles, or -1 */
+  int nKeep;                        /* elements whose every cycle is kept */
   /* Per complete cycle c and node n, at [c * nNode + n]: */
   double *cyc_p_min, *cyc_p_max, *cyc_p_mean; /* [Pa] */
   int periodic_cycle;               /* until_periodic: the cycle after which net volumes
@@ -65,5 +74,17 @@ void fc_sim_result_free(fc_sim_result *r);
 
 /* Async-signal-safe: ask a running fc_sim_run to stop at its next step. */
 void fc_sim_request_stop(void);
+
+/* Cycles of every element held however many cycles run (the last ones). */
+#define FC_SIM_CYCLE_RING 3
+
+/* Index of cycle c of element i in the per-cycle element arrays of r: every c < nCycle for a
+ * tracked element, the last FC_SIM_CYCLE_RING cycles for the others. */
+static inline size_t fc_sim_cycle_at(const fc_sim_result *r, int c, int i)
+{
+  int k = r->cyc_row[i];
+  return k >= 0 ? (size_t)FC_SIM_CYCLE_RING * r->nElem + (size_t)c * r->nKeep + k
+                : (size_t)(c % FC_SIM_CYCLE_RING) * r->nElem + i;
+}
 
 #endif
