@@ -1,13 +1,13 @@
 #define _POSIX_C_SOURCE 200809L
-/* ferrocirc — CVODE driver: the only file that includes SUNDIALS headers.
+/* ferrocirc — CVODE driver: with nvec_fast.c, the only file that includes SUNDIALS headers.
  *
  * Method: variable-order BDF with Newton iterations; linear systems solved directly with the
  * augmented sparse matrix of sys.h (KLU), so the cost per step is linear in network size. Right-hand side returns 0, >0 to ask
  * for a smaller step, <0 on fatal errors (SUNDIALS convention). Discontinuities: root functions
  * locate mode switches; at each switch, waveform corner and cycle boundary the integrator stops
  * (CVodeSetStopTime), so no step straddles one, and restarts (CVodeReInit, CVodeQuadReInit)
- * where the right-hand side jumps (a switch) or the quadratures are re-based (a cycle).
- * (nvec_fast.c also includes the serial vector header, to replace its kernels.) */
+ * where the right-hand side or its slope jumps (a switch, a table corner) or the quadratures are
+ * re-based (a cycle boundary, a flow-sign root); a pulse's smooth corners need no restart. */
 #include <cvodes/cvodes.h> /* CVODE with quadratures: same integrator, same API */
 #include <math.h>
 #include <nvector/nvector_serial.h>
