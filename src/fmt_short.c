@@ -42,24 +42,17 @@ int fci_fmt_shortest_slow(char *buf, double v)
 
 #if LDBL_MANT_DIG >= 64
 
-/* 10^j, j = 0..27: exact in a 64-bit significand. */
-static long double p10l(int j)
-{
-  static long double t[28];
-  static int ready = 0;
-  if (!ready) {
-    t[0] = 1.0L;
-    for (int i = 1; i < 28; i++) t[i] = t[i - 1] * 10.0L; /* exact: 10^i < 2^64 5^... */
-    ready = 1;
-  }
-  return t[j];
-}
+/* 10^j, j = 0..27: exact in a 64-bit significand (10^j = 2^j 5^j, 5^27 < 2^64), so the
+ * literals are the values themselves. */
+static const long double p10l[28] = {
+  1e0L,  1e1L,  1e2L,  1e3L,  1e4L,  1e5L,  1e6L,  1e7L,  1e8L,  1e9L,  1e10L, 1e11L, 1e12L, 1e13L,
+  1e14L, 1e15L, 1e16L, 1e17L, 1e18L, 1e19L, 1e20L, 1e21L, 1e22L, 1e23L, 1e24L, 1e25L, 1e26L, 1e27L};
 
 /* x 10^k in steps of exact powers; *r counts the roundings. */
 static long double scale10(long double x, int k, int *r)
 {
-  while (k > 0) { int j = k > 27 ? 27 : k; x *= p10l(j); k -= j; ++*r; }
-  while (k < 0) { int j = -k > 27 ? 27 : -k; x /= p10l(j); k += j; ++*r; }
+  while (k > 0) { int j = k > 27 ? 27 : k; x *= p10l[j]; k -= j; ++*r; }
+  while (k < 0) { int j = -k > 27 ? 27 : -k; x /= p10l[j]; k += j; ++*r; }
   return x;
 }
 
