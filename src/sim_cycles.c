@@ -27,7 +27,7 @@ int fci_cycles_init(fci_run *R)
 {
   int E = R->net->nElem, N = R->net->nNode;
   fc_sim_result *r = R->res;
-  size_t nc = r->cycle_period > 0 ? (size_t)floor(R->net->sim.duration / r->cycle_period + 1e-9) : 0;
+  size_t nc = (size_t)r->nCycleMax; /* alloc_result, src/sim_run.c */
   if (!NEW(R->c_open, E) || !NEW(R->c_dpmax, E) || !NEW(R->c_dpmin, E) || !NEW(R->c_qmax, E) ||
       !NEW(R->c_qmin, E) || !NEW(R->c_pmin, N) || !NEW(R->c_pmax, N) || !NEW(R->mode_el, E) ||
       !NEW(R->win_start, E) || !NEW(R->win_count, E) ||
@@ -191,8 +191,7 @@ void fci_cycles_step(fci_run *R, double t, const double *yq)
   refine_extremes(R, t);
   accumulate(R, t);
   if (!(T > 0) || t < R->next_cycle * (1 - 1e-12)) return;
-  int cap = (int)floor(R->net->sim.duration / T + 1e-9);
-  if (R->res->nCycle < cap) close_cycle(R, yq);
+  if (R->res->nCycle < R->res->nCycleMax) close_cycle(R, yq);
   fci_cycles_fold_extremes(R);
   reset_cycle(R);
   /* Keep the point at the boundary in the next cycle too, so its extremes include it. */

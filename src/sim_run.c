@@ -60,7 +60,7 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
   if (rc) return rc;
   fci_sys *s = R->sys;
   int E = net->nElem;
-  if (!NEW(R->qoff, E) || !NEW(R->qbuf, E) || !NEW(R->modes, E) || !NEW(R->corner_el, E) ||
+  if (!NEW(R->qoff, E) || !NEW(R->quad_el, E) || !NEW(R->qbuf, E) || !NEW(R->modes, E) || !NEW(R->corner_el, E) ||
       !NEW(R->sign_el, E) || !NEW(R->x0, s->nx) || !NEW(R->v0, s->ns) || alloc_result(R) ||
       fci_cycles_init(R))
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
@@ -80,7 +80,7 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
     if (e->type->xCorner && e->type->xCorner(e, 0.0, &sm) < INFINITY) R->corner_el[R->ncorner++] = i;
     int tr = e->nTerm == 2 && tracked(net, i);
     R->qoff[i] = tr ? R->nq : -1;
-    if (R->qoff[i] >= 0) R->nq += 2;
+    if (tr) { R->quad_el[R->nquad++] = i; R->nq += 2; }
     if (e->role == FC_ROLE_FLOW && tr) R->sign_el[R->nsign++] = i;
   }
   R->nroot_all = s->nroot + R->nsign;
@@ -103,7 +103,7 @@ void fci_run_free(fci_run *R)
   fci_sys_free(R->sys);
   fci_cycles_free(R);
   fc_sim_result_free(R->res);
-  fc_free(R->qoff); fc_free(R->qbuf); fc_free(R->modes); fc_free(R->corner_el);
+  fc_free(R->qoff); fc_free(R->quad_el); fc_free(R->qbuf); fc_free(R->modes); fc_free(R->corner_el);
   fc_free(R->rootsfound); fc_free(R->sign_el); fc_free(R->x0); fc_free(R->v0); fc_free(R->vq_cycle);
   fc_free(R->qpn); fc_free(R->qmag); fc_free(R->qtmp);
   fci_steps_free(&R->steps);
@@ -126,9 +126,8 @@ void fc_sim_result_free(fc_sim_result *r)
 void fci_run_quad_rhs(const fci_run *R, double *dq)
 {
   const fci_sys *s = R->sys;
-  for (int i = 0; i < s->nE; i++) {
-    int o = R->qoff[i];
-    if (o < 0) continue;
+  for (int j = 0; j < R->nquad; j++) {
+    int i = R->quad_el[j], o = R->qoff[i];
     dq[o] = s->q[i];
     dq[o + 1] = s->q[i] < 0 ? -s->q[i] : 0;
   }

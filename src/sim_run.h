@@ -25,6 +25,7 @@ typedef struct fci_run {
   int nq;                    /* CVODES quadratures: 2 per tracked element, 1 per imposed node */
   int *qoff;                 /* per element: offset of its 2 quadratures (q, max(-q, 0)), -1 if
                                 it is one-terminal or integrated from the dense output */
+  int *quad_el, nquad;       /* the elements with quadratures, so the per-step pass visits only them */
   int *qpn;                  /* per node: offset of its pressure quadrature, -1 if the node is
                                 not imposed (then from the dense output) */
   double *qmag;              /* per quadrature: largest |integrand| seen (tolerance scale) */

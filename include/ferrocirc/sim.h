@@ -41,7 +41,7 @@ typedef struct fc_sim_result {
   double *v_inflow;                 /* per node: integral of the net inflow [m^3] */
   int nCycle;                       /* complete cycles recorded */
   double cycle_period;              /* [s], 0 if none */
-  int nCycleMax;                    /* cycles the record has room for */
+  int nCycleMax;                    /* whole cycles in the duration: the record's room */
   /* Per complete cycle c and element i, at [fc_sim_cycle_at(r, c, i)] (NaN for one-terminal
    * elements). Every cycle is kept for the tracked elements (valves, sources, culture chambers,
    * report.track: cyc_row[i] >= 0); of the others only the last FC_SIM_CYCLE_RING cycles, so the
