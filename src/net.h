@@ -7,6 +7,9 @@
 
 enum { FC_INIT_REST = 0, FC_INIT_STEADY = 1 };
 
+/* Newton solves (simulation.linear_solver); the order of the option's names. */
+enum { FCI_LS_AUTO = 0, FCI_LS_DIRECT, FCI_LS_ITERATIVE };
+
 typedef struct fci_sim_opts {
   double duration;         /* end time [s] (resolved from cycles if given) */
   double cycles;           /* number of cycles requested, 0 if duration given */
@@ -23,6 +26,7 @@ typedef struct fci_sim_opts {
   int    chatter_max;      /* switches of one element within chatter_window that count as chatter */
   double chatter_window;   /* [s] */
   int    chatter_continue; /* 1: hold the valve open for one window and go on; 0: stop (exit 3) */
+  int    linear_solver;    /* FCI_LS_*: Newton solves direct, iterative or chosen */
 } fci_sim_opts;
 
 typedef struct fci_report_opts {

@@ -20,7 +20,7 @@ static const char *const fluid_keys[] = {"viscosity", "density", "ambient_pressu
 static const char *const sim_keys[] = {"duration", "cycles", "cycle_period", "sample_interval",
                                        "rel_tol", "abs_tol", "abs_tol_volume", "abs_tol_flow",
                                        "max_step", "initial", "until_periodic", "max_cycles",
-                                       "chatter", NULL};
+                                       "chatter", "linear_solver", NULL};
 static const char *const chatter_keys[] = {"max_switches", "window", "action", NULL};
 static const char *const report_keys[] = {"pressure_unit", "flow_unit", "elements",
                                           "shear_range", "pressure_limit", "limits", NULL};
@@ -176,6 +176,19 @@ int fci_net_parse_sim(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc_
     if (cJSON_IsString(ini) && strcmp(ini->valuestring, "rest") == 0) s->initial = FC_INIT_REST;
     else if (cJSON_IsString(ini) && strcmp(ini->valuestring, "steady") == 0) s->initial = FC_INIT_STEADY;
     else return fc_fail(err, FC_EPARAM, "$.simulation.initial", "expected \"rest\" or \"steady\"");
+  }
+  /* Newton solves: "auto" picks the iterative solver where a direct factorisation would fill
+   * in (meshes of channels), docs/numerics.md. */
+  static const char *const ls_names[] = {"auto", "direct", "iterative"};
+  const cJSON *ls = j ? cJSON_GetObjectItemCaseSensitive(j, "linear_solver") : NULL;
+  s->linear_solver = FCI_LS_AUTO;
+  if (ls) {
+    int k = 0;
+    while (k < 3 && !(cJSON_IsString(ls) && !strcmp(ls->valuestring, ls_names[k]))) k++;
+    if (k == 3)
+      return fc_fail(err, FC_EPARAM, "$.simulation.linear_solver",
+                     "expected \"auto\", \"direct\" or \"iterative\"");
+    s->linear_solver = k; /* the order of FCI_LS_* */
   }
   return FC_OK;
 }

@@ -52,17 +52,31 @@ static int f_root(sunrealtype t, N_Vector y, sunrealtype *g, void *ud)
   return 0;
 }
 
-/* The linear solver: CVODE's Newton systems (I - gamma J) dx = r are solved directly with the
- * augmented sparse matrix of sys.h (KLU), as a SUNDIALS "matrix-embedded" solver: CVODE asks
- * for a set-up when its heuristics say the matrix is stale, and the solve refactors at the
- * current iterate whenever gamma has changed since, so every solve is exact for the current
- * gamma (no GMRES, no difference-quotient Jacobian products). */
+/* The linear solver: CVODE's Newton systems (I - gamma J) dx = r are solved with the
+ * augmented sparse matrix of sys.h, as a SUNDIALS "matrix-embedded" solver: CVODE asks for a
+ * set-up when its heuristics say the matrix is stale.
+ * Direct (KLU): the solve refactors at the current iterate whenever gamma has changed since,
+ * so every solve is exact for the current gamma (no difference-quotient Jacobian products).
+ * Iterative (src/sys_krylov.c, for meshes whose LU fills in): GMRES with ILU(0) of the
+ * Jacobian of the last set-up, the products and ILU(0) at the current gamma, to CVODE's
+ * tolerance in its error weights (setscalingvectors hands them over). A solve GMRES cannot
+ * reduce falls back to a direct one, so the iterative path never loses a step the direct one
+ * would take. */
 typedef struct ls_ctx {
   fci_run *R;
   void *mem;
   double gamma;    /* gamma of the factorisation in use, 0 = none */
   long setups;     /* factorisations done */
+  N_Vector w;      /* CVODE's error weights (iterative path), borrowed */
+  int iters;       /* Krylov iterations of the last solve */
+  long fallbacks;  /* iterative solves redone directly */
+  long nst_jac, ncf_jac; /* steps and convergence failures at the last Jacobian (iterative) */
 } ls_ctx;
+
+/* CVODE does not call a matrix-embedded solver's set-up, so the iterative path renews the
+ * Jacobian by CVODE's own rule for matrix-based solvers (SUNDIALS User Guide, CVODE
+ * "Linear solver interface": every msbp = 20 steps, and after a convergence failure). */
+#define JAC_EVERY 20
 
 static SUNLinearSolver_Type ls_type(SUNLinearSolver S)
 {
@@ -70,7 +84,7 @@ static SUNLinearSolver_Type ls_type(SUNLinearSolver S)
   return SUNLINEARSOLVER_MATRIX_EMBEDDED;
 }
 
-static int ls_factor(ls_ctx *L)
+static int ls_factor(ls_ctx *L, int direct)
 {
   sunrealtype t, g;
   N_Vector y;
@@ -78,7 +92,12 @@ static int ls_factor(ls_ctx *L)
       CVodeGetCurrentState(L->mem, &y))
     return -1;
   L->setups++;
-  if (fci_sys_psetup(L->R->sys, t, NV_DATA_S(y), g)) return 1;
+  fci_sys *s = L->R->sys;
+  if (s->kr && !direct) {
+    if (CVodeGetNumSteps(L->mem, &L->nst_jac) || CVodeGetNumNonlinSolvConvFails(L->mem, &L->ncf_jac))
+      return -1;
+    if (fci_sys_ksetup(s, t, NV_DATA_S(y), g)) return 1;
+  } else if (fci_sys_psetup(s, t, NV_DATA_S(y), g)) return 1;
   L->gamma = g;
   return 0;
 }
@@ -86,21 +105,54 @@ static int ls_factor(ls_ctx *L)
 static int ls_setup(SUNLinearSolver S, SUNMatrix A)
 {
   (void)A;
-  return ls_factor(S->content);
+  return ls_factor(S->content, 0);
+}
+
+static int ls_solve_direct(ls_ctx *L, N_Vector x, N_Vector b, sunrealtype g)
+{
+  if (g != L->gamma || L->R->sys->kr) {
+    int rc = ls_factor(L, 1);
+    if (rc) return rc;
+    if (L->R->sys->kr) L->gamma = 0; /* the Krylov set-up is stale now */
+  }
+  N_VScale(1.0, b, x);
+  return fci_sys_psolve(L->R->sys, NV_DATA_S(x)) ? 1 : 0;
 }
 
 static int ls_solve(SUNLinearSolver S, SUNMatrix A, N_Vector x, N_Vector b, sunrealtype tol)
 {
-  (void)A; (void)tol;
+  (void)A;
   ls_ctx *L = S->content;
+  fci_sys *s = L->R->sys;
   sunrealtype g;
+  L->iters = 0;
   if (CVodeGetCurrentGamma(L->mem, &g)) return -1;
-  if (g != L->gamma) {
-    int rc = ls_factor(L);
-    if (rc) return rc;
+  if (!s->kr || !L->w) return ls_solve_direct(L, x, b, g);
+  long nst, ncf;
+  if (CVodeGetNumSteps(L->mem, &nst) || CVodeGetNumNonlinSolvConvFails(L->mem, &ncf)) return -1;
+  int stale = L->gamma == 0 || ncf != L->ncf_jac || nst < L->nst_jac || nst >= L->nst_jac + JAC_EVERY;
+  int rc = stale ? ls_factor(L, 0) : fci_krylov_gamma(s, g);
+  if (rc < 0) return rc;
+  if (!rc) {
+    N_VScale(1.0, b, x);
+    rc = fci_krylov_solve(s, NV_DATA_S(x), NV_DATA_S(L->w), tol, &L->iters);
+    if (rc == 0) return SUNLS_SUCCESS;
+    if (rc == 1) return SUNLS_RES_REDUCED;
   }
-  N_VScale(1.0, b, x);
-  return fci_sys_psolve(L->R->sys, NV_DATA_S(x)) ? 1 : 0;
+  L->fallbacks++;
+  return ls_solve_direct(L, x, b, g);
+}
+
+static int ls_scaling(SUNLinearSolver S, N_Vector s1, N_Vector s2)
+{
+  (void)s2;
+  ((ls_ctx *)S->content)->w = s1;
+  return 0;
+}
+
+static int ls_iters(SUNLinearSolver S)
+{
+  return ((ls_ctx *)S->content)->iters;
 }
 
 static int ls_free(SUNLinearSolver S)
@@ -119,6 +171,10 @@ static SUNLinearSolver ls_new(ls_ctx *L, SUNContext ctx)
   S->ops->setup = ls_setup;
   S->ops->solve = ls_solve;
   S->ops->free = ls_free;
+  if (L->R->sys->kr) {
+    S->ops->setscalingvectors = ls_scaling;
+    S->ops->numiters = ls_iters;
+  }
   S->content = L;
   return S;
 }
@@ -261,6 +317,7 @@ static int cv_init(cv *c, fci_run *R, fc_error *err)
   if (set_weights(R, n)) return fc_fail(err, FC_ENOMEM, NULL, "out of memory creating the integrator");
   c->lsc.R = R;
   c->lsc.mem = c->mem;
+  R->res->stats.iterative = fci_sys_linear_choice(s, o->linear_solver) == FCI_LS_ITERATIVE;
   c->ls = ls_new(&c->lsc, c->ctx);
   if (!c->ls || CVodeInit(c->mem, f_rhs, 0.0, c->y) || CVodeSetUserData(c->mem, R) ||
       CVodeWFtolerances(c->mem, ewt_fn) || CVodeSetErrHandlerFn(c->mem, on_cvode_error, R) ||
@@ -427,6 +484,7 @@ int fc_sim_run(fc_net *net, const fc_sim_sink *sink, fc_sim_result **out, fc_err
     R.res->stats.wall_seconds = (double)(t1.tv_sec - t0.tv_sec) + 1e-9 * (double)(t1.tv_nsec - t0.tv_nsec);
     R.res->stats.factorizations = R.sys ? R.sys->nGfact + R.sys->nAfact : 0;
     R.res->stats.prec_setups = c.lsc.setups;
+    R.res->stats.lin_fallbacks = c.lsc.fallbacks;
   }
   if (!rc || rc == FC_EINTR) { *out = R.res; R.res = NULL; }
   fci_run_free(&R);

@@ -36,9 +36,10 @@ void fc_summary_print(FILE *f, const fc_net *net, const fc_sim_result *r, const 
             r->p_mean[n] * u->pf, r->p_max[n] * u->pf);
   fci_summary_print_cycles(f, net, r, u);
   const fc_sim_stats *s = &r->stats;
-  fprintf(f, "\nSolver: %ld steps, %ld right-hand sides, %ld Newton-matrix factorisations, %ld linear "
-          "iterations, %ld events, %.3g s wall\n\n", s->steps, s->rhs_evals, s->prec_setups,
-          s->lin_iters, s->events, s->wall_seconds);
+  fprintf(f, "\nSolver: %ld steps, %ld right-hand sides, %ld Newton-matrix set-ups (%s), %ld "
+          "linear iterations, %ld events, %.3g s wall\n\n", s->steps, s->rhs_evals, s->prec_setups,
+          s->iterative ? "iterative: GMRES with ILU(0)" : "direct: KLU", s->lin_iters, s->events,
+          s->wall_seconds);
   fputs(fc_cautions_text, f);
 }
 
@@ -81,6 +82,7 @@ int fc_summary_json_write(FILE *f, const fc_net *net, const fc_sim_result *r)
   fci_jw_end(&w);
   const fc_sim_stats *s = &r->stats;
   fci_jw_object(&w, "solver");
+  fci_jw_string(&w, "linear_solver", s->iterative ? "iterative" : "direct");
   fci_jw_number(&w, "steps", (double)s->steps);
   fci_jw_number(&w, "rhs_evals", (double)s->rhs_evals);
   fci_jw_number(&w, "prec_setups", (double)s->prec_setups);
@@ -92,6 +94,7 @@ int fc_summary_json_write(FILE *f, const fc_net *net, const fc_sim_result *r)
   fci_jw_number(&w, "conv_fails", (double)s->conv_fails);
   fci_jw_number(&w, "root_evals", (double)s->root_evals);
   fci_jw_number(&w, "factorizations", (double)s->factorizations);
+  fci_jw_number(&w, "lin_fallbacks", (double)s->lin_fallbacks);
   fci_jw_number(&w, "wall_seconds", s->wall_seconds);
   fci_jw_end(&w);
   fci_summary_json_cycles(&w, net, r);

@@ -43,6 +43,19 @@ typedef struct fci_klu {
   klu_common common;
 } fci_klu;
 
+/* Iterative Newton solves (src/sys_krylov.c): GMRES with ILU(0) on the augmented matrix. */
+typedef struct fci_krylov {
+  int n;                    /* nx + nz */
+  int *rp, *ci, *map, *dg;  /* CSR pattern of A, CSR slot -> CSC slot, diagonal slot per row */
+  double *a0, *a1;          /* A = a0 + gamma a1 (CSC order), from the last set-up */
+  double *av;               /* A at gamma (CSC order) */
+  double gamma;             /* gamma of av and of the ILU factors, 0 = none */
+  double *lu;               /* ILU(0) factors, CSR order */
+  int *iw;                  /* n, work */
+  double *V, *H, *cs, *sn, *g, *y, *z, *u, *wt, *res; /* GMRES work */
+  long iters, solves, psetups;
+} fci_krylov;
+
 typedef struct fci_sys {
   fc_net *net;              /* borrowed */
   int nN, nE;
@@ -97,6 +110,7 @@ typedef struct fci_sys {
   double *Cconst;           /* per store index: its constant total compliance, 0 if not all
                                of its elements are constant */
   int ldirty;               /* 1: re-read the coefficients (a mode switched) */
+  fci_krylov *kr;           /* iterative Newton solves; NULL: direct (KLU) */
 } fci_sys;
 
 /* Classify nodes, check topology, build patterns and symbolic factorisations. */
@@ -117,6 +131,20 @@ int fci_sys_rhs_from_eval(fci_sys *s, double t, const double *x, double *xdot);
 /* Newton matrix: assemble and factor at (t, x, gamma); solve in place on r (length nx). */
 int fci_sys_psetup(fci_sys *s, double t, const double *x, double gamma);
 int fci_sys_psolve(fci_sys *s, double *r);
+/* The same with GMRES (sys->kr set): set-up stamps the Jacobian and factors ILU(0) at gamma;
+ * fci_sys_kgamma refactors ILU(0) for a new gamma with the same Jacobian; the solve takes
+ * CVODE's error weights w (length nx) and its tolerance on the weighted 2-norm of the
+ * residual. Solve returns 0 converged, 1 residual reduced but not to tol, 2 failed; *iters
+ * receives the Krylov iterations. */
+int fci_sys_ksetup(fci_sys *s, double t, const double *x, double gamma);
+/* Choose the Newton solver (FCI_LS_*; AUTO decides from KLU's fill estimate) and build the
+ * iterative one if chosen; returns FCI_LS_DIRECT or FCI_LS_ITERATIVE. */
+int fci_sys_linear_choice(fci_sys *s, int choice);
+int fci_krylov_build(fci_sys *s);
+void fci_krylov_free(fci_krylov *K);
+int fci_krylov_setup(fci_sys *s, double gamma); /* a0 holds A(0), A.val holds A(1) */
+int fci_krylov_gamma(fci_sys *s, double gamma);
+int fci_krylov_solve(fci_sys *s, double *r, const double *w, double tol, int *iters);
 /* Event functions (length nroot) after fci_sys_eval. */
 void fci_sys_roots(fci_sys *s, double t, const double *x, double *g);
 /* Steady state at time t with every source at its t value: solves sum q = 0 at every STORE and
@@ -136,6 +164,8 @@ void fci_sys_linear_refresh(fci_sys *s);
  * for k < m; slot[k] receives the value index of entry k (duplicates share one). */
 int fci_csc_build(fci_csc *c, int n, int m, const int *rows, const int *cols, int *slot);
 void fci_csc_free(fci_csc *c);
+/* Symbolic analysis (once; also done by the first factorisation). */
+int fci_klu_analyze(fci_klu *k, const fci_csc *c);
 /* Factor (full) or refactor (same pivots; falls back to full when ill-conditioned). */
 int fci_klu_factor(fci_klu *k, const fci_csc *c, int refactor);
 int fci_klu_solve(fci_klu *k, const fci_csc *c, double *b);

@@ -276,6 +276,17 @@ static int setup(fci_sys *s, double t, const double *x, double gamma, int steady
   return rc ? 1 : 0;
 }
 
+int fci_sys_ksetup(fci_sys *s, double t, const double *x, double gamma)
+{
+  if (s->nx == 0) return 0;
+  if (fci_sys_eval(s, t, x)) return 1;
+  memcpy(s->Cpre, s->Csum, (size_t)s->ns * sizeof *s->Cpre);
+  stamp_aug(s, t, x, 0.0, 0);
+  memcpy(s->kr->a0, s->A.val, (size_t)s->A.nnz * sizeof *s->A.val);
+  stamp_aug(s, t, x, 1.0, 0);
+  return fci_krylov_setup(s, gamma);
+}
+
 int fci_sys_psetup(fci_sys *s, double t, const double *x, double gamma)
 {
   if (s->nx == 0) return 0;

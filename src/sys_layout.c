@@ -192,6 +192,7 @@ void fci_sys_free(fci_sys *s)
   if (!s) return;
   fci_klu_free(&s->gk);
   fci_klu_free(&s->ak);
+  fci_krylov_free(s->kr);
   fci_csc_free(&s->G);
   fci_csc_free(&s->A);
   fc_free(s->kind); fc_free(s->idx); fc_free(s->fix_order); fc_free(s->fix_node); fc_free(s->Cpre); fc_free(s->xlast); fc_free(s->store_ptr);

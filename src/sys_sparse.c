@@ -66,13 +66,17 @@ void fci_csc_free(fci_csc *c)
   memset(c, 0, sizeof *c);
 }
 
+int fci_klu_analyze(fci_klu *k, const fci_csc *c)
+{
+  if (k->sym) return FC_OK;
+  klu_defaults(&k->common);
+  k->sym = klu_analyze(c->n, c->colptr, c->rowind, &k->common);
+  return k->sym ? FC_OK : FC_ESOLVE;
+}
+
 int fci_klu_factor(fci_klu *k, const fci_csc *c, int refactor)
 {
-  if (!k->sym) {
-    klu_defaults(&k->common);
-    k->sym = klu_analyze(c->n, c->colptr, c->rowind, &k->common);
-    if (!k->sym) return FC_ESOLVE;
-  }
+  if (fci_klu_analyze(k, c)) return FC_ESOLVE;
   if (refactor && k->num) {
     if (klu_refactor(c->colptr, c->rowind, c->val, k->sym, k->num, &k->common) &&
         klu_rcond(k->sym, k->num, &k->common) && k->common.rcond > 1e-13)

@@ -28,6 +28,8 @@ typedef struct fc_sim_sink {
 typedef struct fc_sim_stats {
   long steps, rhs_evals, lin_iters, prec_setups, prec_solves, nonlin_iters;
   long err_test_fails, conv_fails, root_evals, events, restarts, factorizations;
+  long lin_fallbacks;     /* iterative Newton solves redone directly */
+  int iterative;          /* 1 if the Newton solves were iterative (GMRES), 0 direct (KLU) */
   double wall_seconds;
 } fc_sim_stats;
 
