@@ -32,6 +32,10 @@ typedef struct fci_sim_opts {
 typedef struct fci_report_opts {
   int    *track;           /* element indices given in report.elements (nTrack) */
   int     nTrack;
+  int     tracked_only;    /* report.statistics "tracked": flow statistics and mean pressures only
+                              for tracked elements, report.nodes and their terminals */
+  int    *nodes;           /* node indices given in report.nodes (nNodes) */
+  int     nNodes;
   double  shear_lo, shear_hi;   /* report.shear_range [Pa]; 0, INFINITY if not given */
   double  pressure_limit;       /* report.pressure_limit [Pa]; INFINITY if not given */
 } fci_report_opts;

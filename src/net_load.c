@@ -98,6 +98,7 @@ void fc_net_free(fc_net *net)
   }
   fc_free(net->elem);
   fc_free(net->report.track);
+  fc_free(net->report.nodes);
   for (int i = 0; i < net->nNode; i++) fc_free(net->nodeName[i]);
   fc_free(net->nodeName);
   fc_free(net->title);

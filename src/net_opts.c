@@ -23,7 +23,8 @@ static const char *const sim_keys[] = {"duration", "cycles", "cycle_period", "sa
                                        "chatter", "linear_solver", NULL};
 static const char *const chatter_keys[] = {"max_switches", "window", "action", NULL};
 static const char *const report_keys[] = {"pressure_unit", "flow_unit", "elements",
-                                          "shear_range", "pressure_limit", "limits", NULL};
+                                          "shear_range", "pressure_limit", "limits",
+                                          "statistics", "nodes", NULL};
 
 int fci_net_parse_fluid(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc_error *err)
 {
@@ -231,6 +232,38 @@ static int parse_track(fc_net *net, const cJSON *arr, fc_error *err)
   return FC_OK;
 }
 
+/* report.statistics ("all" | "tracked") and report.nodes: a network of 10^5 elements spends a
+ * quarter of its run on the statistics of every element and node (docs/performance.md); with
+ * "tracked" only the tracked elements (valves, sources, culture regions, report.elements), the
+ * nodes listed here and the terminals of tracked elements get them. Node pressure extremes are
+ * kept everywhere, so pressure_limit still watches every node. */
+static int parse_scope(fc_net *net, const cJSON *j, fc_error *err)
+{
+  fci_report_opts *r = &net->report;
+  const cJSON *st = j ? cJSON_GetObjectItemCaseSensitive(j, "statistics") : NULL;
+  r->tracked_only = 0;
+  if (st) {
+    if (cJSON_IsString(st) && !strcmp(st->valuestring, "tracked")) r->tracked_only = 1;
+    else if (!cJSON_IsString(st) || strcmp(st->valuestring, "all"))
+      return fc_fail(err, FC_EPARAM, "$.report.statistics", "expected \"all\" or \"tracked\"");
+  }
+  const cJSON *arr = j ? cJSON_GetObjectItemCaseSensitive(j, "nodes") : NULL;
+  if (!arr) return FC_OK;
+  if (!cJSON_IsArray(arr)) return fc_fail(err, FC_EJSON, "$.report.nodes", "expected an array of node names");
+  int n = cJSON_GetArraySize(arr), k = 0;
+  if (!(r->nodes = fc_calloc((size_t)(n ? n : 1), sizeof *r->nodes)))
+    return fc_fail(err, FC_ENOMEM, "$.report.nodes", "out of memory");
+  for (const cJSON *v = arr->child; v; v = v->next, k++) {
+    char p[64];
+    snprintf(p, sizeof p, "$.report.nodes[%d]", k);
+    if (!cJSON_IsString(v)) return fc_fail(err, FC_EJSON, p, "expected a node name (string)");
+    int i = fc_net_node_find(net, v->valuestring);
+    if (i < 0) return fc_fail(err, FC_EPARAM, p, "no element connects to a node named \"%s\"", v->valuestring);
+    r->nodes[r->nNodes++] = i;
+  }
+  return FC_OK;
+}
+
 static int parse_limits(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, fc_error *err)
 {
   fci_report_opts *r = &net->report;
@@ -272,7 +305,7 @@ int fci_net_parse_report(fc_net *net, const cJSON *j, const fci_parse_ctx *ctx, 
   if (j && !cJSON_IsObject(j)) return fc_fail(err, FC_EJSON, "$.report", "expected an object");
   if (j && (rc = fci_check_keys(j, report_keys, NULL, "$.report", err))) return rc;
   if ((rc = parse_track(net, j ? cJSON_GetObjectItemCaseSensitive(j, "elements") : NULL, err)) ||
-      (rc = parse_limits(net, j, ctx, err)))
+      (rc = parse_scope(net, j, err)) || (rc = parse_limits(net, j, ctx, err)))
     return rc;
   if ((rc = report_unit(j, "pressure_unit", FC_DIM_PRESSURE, "mbar", net->pressure_unit,
                         sizeof net->pressure_unit, ctx, err)))

@@ -94,8 +94,8 @@ static void refine_extremes(fci_run *R, double t)
 void fci_cycles_extremes(fci_run *R)
 {
   const fci_sys *s = R->sys;
-  for (int i = 0; i < s->nE; i++) {
-    if (s->eb[i] < 0) continue;
+  for (int l = 0; l < R->next_el; l++) {
+    int i = R->ext_el[l];
     double dp = s->p[s->ea[i]] - s->p[s->eb[i]], q = s->q[i];
     if (dp > R->c_dpmax[i]) R->c_dpmax[i] = dp;
     if (dp < R->c_dpmin[i]) R->c_dpmin[i] = dp;
@@ -142,7 +142,7 @@ static void close_cycle(fci_run *R, const double *yq)
   const fci_steps *S = &R->steps;
   for (int i = 0; i < E; i++) {
     size_t k = fc_sim_cycle_at(r, c, i);
-    int o = R->qoff[i], two = net->elem[i].nTerm == 2;
+    int o = R->qoff[i], two = net->elem[i].nTerm == 2 && R->rep_el[i];
     r->cyc_v_net[k] = o >= 0 ? yq[o] - R->vq_cycle[o] : two ? S->cq[i] : NAN;
     r->cyc_v_back[k] = o >= 0 ? yq[o + 1] - R->vq_cycle[o + 1] : two ? S->cb[i] : NAN;
     r->cyc_open[k] = R->c_open[i];
@@ -156,7 +156,8 @@ static void close_cycle(fci_run *R, const double *yq)
     int o = R->qpn[n];
     r->cyc_p_min[k] = R->c_pmin[n];
     r->cyc_p_max[k] = R->c_pmax[n];
-    r->cyc_p_mean[k] = (o >= 0 ? yq[o] - R->vq_cycle[o] : S->cp[n]) / r->cycle_period;
+    r->cyc_p_mean[k] = !R->rep_node[n] ? NAN
+                       : (o >= 0 ? yq[o] - R->vq_cycle[o] : S->cp[n]) / r->cycle_period;
   }
   fci_steps_close_cycle(&R->steps, N, E, R->sys->ns);
   r->nCycle++;
@@ -174,8 +175,8 @@ void fci_cycles_fold_extremes(fci_run *R)
 {
   const fci_sys *s = R->sys;
   fc_sim_result *r = R->res;
-  for (int i = 0; i < s->nE; i++) {
-    if (s->eb[i] < 0) continue;
+  for (int l = 0; l < R->next_el; l++) {
+    int i = R->ext_el[l];
     if (R->c_qmin[i] < r->q_min[i]) r->q_min[i] = R->c_qmin[i];
     if (R->c_qmax[i] > r->q_max[i]) r->q_max[i] = R->c_qmax[i];
   }

@@ -51,6 +51,34 @@ static int alloc_result(fci_run *R)
   return FC_OK;
 }
 
+/* The lists of sim_run.h's report scope, after qoff and qpn are known. */
+static int scope_init(fci_run *R)
+{
+  const fc_net *net = R->net;
+  const fci_sys *s = R->sys;
+  int E = net->nElem, N = net->nNode;
+  R->stats_all = !net->report.tracked_only;
+  if (!NEW(R->rep_el, E) || !NEW(R->rep_node, N) || !NEW(R->st_el, E) || !NEW(R->ext_el, E) ||
+      !NEW(R->st_node, N) || !NEW(R->st_store, s->ns))
+    return FC_ENOMEM;
+  for (int n = 0; n < net->report.nNodes; n++) R->rep_node[net->report.nodes[n]] = 1;
+  for (int i = 0; i < E; i++) {
+    const fc_elem *e = &net->elem[i];
+    if (!R->stats_all && !tracked(net, i)) continue;
+    R->rep_el[i] = 1;
+    for (int t = 0; t < e->nTerm; t++) R->rep_node[e->node[t]] = 1;
+  }
+  for (int n = 0; n < N; n++) R->rep_node[n] |= R->stats_all;
+  for (int i = 0; i < E; i++) {
+    if (!R->rep_el[i] || net->elem[i].nTerm != 2) continue;
+    R->ext_el[R->next_el++] = i;
+    if (R->qoff[i] < 0) R->st_el[R->nst_el++] = i;
+  }
+  for (int n = 0; n < N; n++) if (R->rep_node[n] && R->qpn[n] < 0) R->st_node[R->nst_node++] = n;
+  for (int k = 0; k < s->ns; k++) if (R->rep_node[s->xnode[k]]) R->st_store[R->nst_store++] = k;
+  return FC_OK;
+}
+
 int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err)
 {
   memset(R, 0, sizeof *R);
@@ -88,7 +116,7 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
       fci_steps_init(&R->steps, net->nNode, E, s->ns))
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
   for (int n = 0; n < net->nNode; n++) R->qpn[n] = s->kind[n] == FCI_NODE_FIXED ? R->nq++ : -1;
-  if (!NEW(R->vq_cycle, R->nq) || !NEW(R->qmag, R->nq) || !NEW(R->qtmp, R->nq))
+  if (!NEW(R->vq_cycle, R->nq) || !NEW(R->qmag, R->nq) || !NEW(R->qtmp, R->nq) || scope_init(R))
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
   R->dt = net->sim.sample_interval;
   R->next_cycle = net->sim.cycle_period > 0 ? net->sim.cycle_period : INFINITY;
@@ -106,6 +134,8 @@ void fci_run_free(fci_run *R)
   fc_free(R->qoff); fc_free(R->quad_el); fc_free(R->qbuf); fc_free(R->modes); fc_free(R->corner_el);
   fc_free(R->rootsfound); fc_free(R->sign_el); fc_free(R->x0); fc_free(R->v0); fc_free(R->vq_cycle);
   fc_free(R->qpn); fc_free(R->qmag); fc_free(R->qtmp);
+  fc_free(R->rep_el); fc_free(R->rep_node); fc_free(R->st_el); fc_free(R->ext_el);
+  fc_free(R->st_node); fc_free(R->st_store);
   fci_steps_free(&R->steps);
   memset(R, 0, sizeof *R);
 }
@@ -303,18 +333,19 @@ int fci_run_finish(fci_run *R, double t, const double *x, const double *yq, fc_e
   for (int i = 0; i < s->nE; i++) {
     int o = R->qoff[i];
     if (R->net->elem[i].nTerm != 2) continue;
+    if (!R->rep_el[i]) { r->v_net[i] = r->v_back[i] = r->q_mean[i] = r->q_min[i] = r->q_max[i] = NAN; continue; }
     r->v_net[i] = o >= 0 ? yq[o] : S->tq[i] + S->cq[i];
     r->v_back[i] = o >= 0 ? yq[o + 1] : S->tb[i] + S->cb[i];
     r->q_mean[i] = r->v_net[i] / T;
   }
   for (int n = 0; n < s->nN; n++) {
     double I = R->qpn[n] >= 0 ? yq[R->qpn[n]] : S->tp[n] + S->cp[n];
-    r->p_mean[n] = t > 0 ? I / T : s->p[n];
+    r->p_mean[n] = !R->rep_node[n] ? NAN : t > 0 ? I / T : s->p[n];
   }
   for (int k = 0; k < s->ns; k++) {
     int n = s->xnode[k];
     r->v_stored[n] = x[k] - R->v0[k];
-    r->v_inflow[n] = S->ti[k] + S->ci[k];
+    r->v_inflow[n] = R->rep_node[n] ? S->ti[k] + S->ci[k] : NAN;
   }
   return FC_OK;
 }

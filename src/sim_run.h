@@ -61,6 +61,15 @@ typedef struct fci_run {
   int nroot_all;             /* element roots + flow-sign roots */
   double *atol, *wscale;     /* the integrator's per-state absolute tolerances and error-weight
                               * factors (owned by src/sim.c) */
+  /* What the report covers (report.statistics; every element and node unless "tracked"). The
+   * per-step passes walk these lists; node pressure extremes are always taken everywhere. */
+  int stats_all;             /* 1: every element and node has statistics */
+  unsigned char *rep_el;     /* per element: has flow statistics */
+  unsigned char *rep_node;   /* per node: has a mean pressure and an inflow integral */
+  int *st_el, nst_el;        /* reported two-terminal elements integrated from the dense output */
+  int *ext_el, next_el;      /* reported two-terminal elements: flow and dp extremes */
+  int *st_node, nst_node;    /* reported nodes integrated from the dense output (not imposed) */
+  int *st_store, nst_store;  /* store indices of reported nodes */
 } fci_run;
 
 /* Flow-sign roots, after the elements' own: g[k] = q of sign_el[k]. */

@@ -53,13 +53,20 @@ void fci_steps_free(fci_steps *S)
   memset(S, 0, sizeof *S);
 }
 
-/* Copy the evaluation now in the system into the values of one point (left end or interior). */
+/* Copy the evaluation now in the system into the values of one point (left end or interior):
+ * all of it, or what the report's lists need (report.statistics "tracked"). */
 static void take(const fci_run *R, double *p, double *q, double *in)
 {
   const fci_sys *s = R->sys;
-  memcpy(p, s->p, (size_t)s->nN * sizeof *p);
-  memcpy(q, s->q, (size_t)s->nE * sizeof *q);
-  for (int k = 0; k < s->ns; k++) in[k] = s->qin[s->xnode[k]];
+  if (R->stats_all) {
+    memcpy(p, s->p, (size_t)s->nN * sizeof *p);
+    memcpy(q, s->q, (size_t)s->nE * sizeof *q);
+    for (int k = 0; k < s->ns; k++) in[k] = s->qin[s->xnode[k]];
+    return;
+  }
+  for (int j = 0; j < R->nst_node; j++) p[R->st_node[j]] = s->p[R->st_node[j]];
+  for (int j = 0; j < R->nst_el; j++) q[R->st_el[j]] = s->q[R->st_el[j]];
+  for (int j = 0; j < R->nst_store; j++) in[R->st_store[j]] = s->qin[s->xnode[R->st_store[j]]];
 }
 
 void fci_steps_left(fci_run *R)
@@ -149,19 +156,20 @@ void fci_steps_integrate(fci_run *R, double h, int m, const double *s_in)
   else { w[0] = w[3] = 1.0 / 12; w[1] = w[2] = 5.0 / 12; }
   for (int k = 0; k < n; k++) w[k] *= h;
   const double *pm = S->pm, *qm = S->qm, *im = S->im;
-  for (int i = 0; i < nN; i++) {
-    if (R->qpn[i] >= 0) continue;
+  for (int l = 0; l < R->nst_node; l++) {
+    int i = R->st_node[l];
     double v = w[0] * S->pl[i] + w[n - 1] * s->p[i];
     for (int j = 0; j < m; j++) v += w[j + 1] * pm[(size_t)j * nN + i];
     S->cp[i] += v;
   }
-  for (int k = 0; k < ns; k++) {
+  for (int l = 0; l < R->nst_store; l++) {
+    int k = R->st_store[l];
     double v = w[0] * S->il[k] + w[n - 1] * s->qin[s->xnode[k]];
     for (int j = 0; j < m; j++) v += w[j + 1] * im[(size_t)j * ns + k];
     S->ci[k] += v;
   }
-  for (int i = 0; i < nE; i++) {
-    if (R->qoff[i] >= 0 || s->eb[i] < 0) continue;
+  for (int l = 0; l < R->nst_el; l++) {
+    int i = R->st_el[l];
     y[0] = S->ql[i];
     y[n - 1] = s->q[i];
     for (int j = 0; j < m; j++) y[j + 1] = qm[(size_t)j * nE + i];

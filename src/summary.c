@@ -31,9 +31,14 @@ void fc_summary_print(FILE *f, const fc_net *net, const fc_sim_result *r, const 
             r->v_back[i] * vf);
   }
   fprintf(f, "\nNodes                min [%s]  mean [%s]  max [%s]\n", u->p_unit, u->p_unit, u->p_unit);
-  for (int n = 0; n < net->nNode; n++)
-    fprintf(f, "  %-18s %10.5g %11.5g %10.5g\n", net->nodeName[n], r->p_min[n] * u->pf,
-            r->p_mean[n] * u->pf, r->p_max[n] * u->pf);
+  for (int n = 0; n < net->nNode; n++) {
+    if (isnan(r->p_mean[n])) /* not in the report's scope (report.statistics): extremes only */
+      fprintf(f, "  %-18s %10.5g %11s %10.5g\n", net->nodeName[n], r->p_min[n] * u->pf, "-",
+              r->p_max[n] * u->pf);
+    else
+      fprintf(f, "  %-18s %10.5g %11.5g %10.5g\n", net->nodeName[n], r->p_min[n] * u->pf,
+              r->p_mean[n] * u->pf, r->p_max[n] * u->pf);
+  }
   fci_summary_print_cycles(f, net, r, u);
   const fc_sim_stats *s = &r->stats;
   fprintf(f, "\nSolver: %ld steps, %ld right-hand sides, %ld Newton-matrix set-ups (%s), %ld "
@@ -73,10 +78,10 @@ int fc_summary_json_write(FILE *f, const fc_net *net, const fc_sim_result *r)
     fci_jw_object(&w, NULL);
     fci_jw_string(&w, "name", net->nodeName[n]);
     fci_jw_number(&w, "p_min_Pa", r->p_min[n]);
-    fci_jw_number(&w, "p_mean_Pa", r->p_mean[n]);
+    if (!isnan(r->p_mean[n])) fci_jw_number(&w, "p_mean_Pa", r->p_mean[n]);
     fci_jw_number(&w, "p_max_Pa", r->p_max[n]);
     fci_jw_number(&w, "volume_stored_m3", r->v_stored[n]);
-    fci_jw_number(&w, "volume_inflow_m3", r->v_inflow[n]);
+    if (!isnan(r->v_inflow[n])) fci_jw_number(&w, "volume_inflow_m3", r->v_inflow[n]);
     fci_jw_end(&w);
   }
   fci_jw_end(&w);

@@ -95,12 +95,12 @@ void fci_summary_print_cycles(FILE *f, const fc_net *net, const fc_sim_result *r
   for (int n = 0; n < net->nNode; n++) {
     size_t k = (size_t)last * r->nNode + n;
     double m = r->cyc_p_mean[k];
-    if (m != 0) fprintf(f, "  p:%-16s PI %8.4g  (min %.5g, mean %.5g, max %.5g %s)\n",
+    if (m != 0 && !isnan(m)) fprintf(f, "  p:%-16s PI %8.4g  (min %.5g, mean %.5g, max %.5g %s)\n",
                         net->nodeName[n], (r->cyc_p_max[k] - r->cyc_p_min[k]) / fabs(m),
                         r->cyc_p_min[k] * u->pf, m * u->pf, r->cyc_p_max[k] * u->pf, u->p_unit);
   }
   for (int i = 0; i < net->nElem; i++) {
-    if (net->elem[i].nTerm != 2) continue;
+    if (net->elem[i].nTerm != 2 || isnan(r->cyc_v_net[fc_sim_cycle_at(r, last, i)])) continue;
     fci_cycle_row o;
     fci_summary_cycle(net, r, last, i, &o);
     fprintf(f, "  q:%-16s PI %8.4g\n", net->elem[i].id, o.pi_q);
@@ -156,16 +156,16 @@ void fci_summary_json_cycles(fci_jw *w, const fc_net *net, const fc_sim_result *
     fci_jw_object(w, NULL);
     fci_jw_string(w, "name", net->nodeName[n]);
     fci_jw_number(w, "p_min_Pa", r->cyc_p_min[k]);
-    fci_jw_number(w, "p_mean_Pa", r->cyc_p_mean[k]);
+    if (!isnan(r->cyc_p_mean[k])) fci_jw_number(w, "p_mean_Pa", r->cyc_p_mean[k]);
     fci_jw_number(w, "p_max_Pa", r->cyc_p_max[k]);
-    if (r->cyc_p_mean[k] != 0)
+    if (r->cyc_p_mean[k] != 0 && !isnan(r->cyc_p_mean[k]))
       fci_jw_number(w, "pulsatility", (r->cyc_p_max[k] - r->cyc_p_min[k]) / fabs(r->cyc_p_mean[k]));
     fci_jw_end(w);
   }
   fci_jw_end(w);
   fci_jw_array(w, "last_cycle_elements");
   for (int i = 0; i < net->nElem; i++) {
-    if (net->elem[i].nTerm != 2) continue;
+    if (net->elem[i].nTerm != 2 || isnan(r->cyc_v_net[fc_sim_cycle_at(r, last, i)])) continue;
     fci_cycle_row o;
     fci_summary_cycle(net, r, last, i, &o);
     fci_jw_object(w, NULL);
