@@ -334,14 +334,26 @@ static int cv_init(cv *c, fci_run *R, fc_error *err)
 
 static void collect_stats(cv *c, fc_sim_stats *st);
 
-/* CVodeReInit zeroes CVODE's counters, so they are added up before every restart. The
- * quadratures restart from zero too, their values folded into qacc: their relative tolerance
+/* The quadratures restart from zero, their values folded into qacc: their relative tolerance
  * then applies to the volume since the last restart (at most one cycle), not to a running
- * total that grows with the number of cycles. */
+ * total that grows with the number of cycles. CVodeQuadReInit only overwrites the value row of
+ * the quadratures' Nordsieck history (CVODES source, cvodes.c; the other rows hold scaled
+ * derivatives, which a constant shift leaves as they are), so on its own, without
+ * CVodeReInit, it shifts the quadratures by a constant and the integrator steps on at the
+ * order and step it had. */
+static int rebase(cv *c, fci_run *R)
+{
+  if (!R->nq) return FC_OK;
+  memcpy(c->qacc, c->qtot, (size_t)R->nq * sizeof *c->qacc);
+  N_VConst(0, c->yq);
+  return CVodeQuadReInit(c->mem, c->yq) || set_qatol(c, R) ? FC_ESOLVE : FC_OK;
+}
+
+/* CVodeReInit zeroes CVODE's counters, so they are added up before every restart. */
 static int restart(cv *c, fci_run *R, double t, int soft)
 {
   R->res->stats.restarts++;
-  /* A soft restart (the solution is smooth through t: a cycle boundary, a flow-sign root) keeps
+  /* A soft restart (the solution is smooth through t: a flow-sign root) keeps
    * the scale of the step it had: back at order 1 it takes half of it, and CVODE's error test
    * corrects that if it must. Otherwise CVODE estimates a first step (CVodeSetInitStep 0),
    * which after a valve switch is often 1e-9 s or less: the new transient needs it. */
@@ -351,12 +363,7 @@ static int restart(cv *c, fci_run *R, double t, int soft)
   collect_stats(c, &R->res->stats);
   if (CVodeSetInitStep(c->mem, h0) || CVodeReInit(c->mem, t, c->y)) return FC_ESOLVE;
   if (!soft) c->lsc.gamma = 0; /* the Jacobian may have changed with the mode: refactor */
-  if (R->nq) {
-    memcpy(c->qacc, c->qtot, (size_t)R->nq * sizeof *c->qacc);
-    N_VConst(0, c->yq);
-    if (CVodeQuadReInit(c->mem, c->yq) || set_qatol(c, R)) return FC_ESOLVE;
-  }
-  return FC_OK;
+  return rebase(c, R);
 }
 
 /* The element whose state CVODE trusted least: largest weighted local error estimate. */
@@ -453,9 +460,11 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
      * next steps itself; a restart back to order 1 and a tiny first step would cost more
      * (docs/performance.md: 1/8 of the restarts and ~7 % of the steps of a pulsed tree). */
     int stop = flag == CV_TSTOP_RETURN ? kind : -1;
-    if (changed || sign || stop > FCI_STOP_SMOOTH) {
-      int soft = !changed && (stop == FCI_STOP_REBASE || (stop < 0 && sign));
-      if (restart(c, R, t, soft)) { rc = fc_fail(err, FC_ESOLVE, NULL, "restart failed: %s", R->cv_msg); break; }
+    if (changed || sign || stop == FCI_STOP_KINK) {
+      if (restart(c, R, t, !changed && stop != FCI_STOP_KINK)) { rc = fc_fail(err, FC_ESOLVE, NULL, "restart failed: %s", R->cv_msg); break; }
+    } else if (stop == FCI_STOP_REBASE && rebase(c, R)) {
+      rc = fc_fail(err, FC_ESOLVE, NULL, "re-basing the quadratures failed: %s", R->cv_msg);
+      break;
     }
     if (changed && (rc = fci_run_step_restart(R, t, NV_DATA_S(c->y), err))) break;
   }

@@ -58,8 +58,8 @@ void fci_cycles_free(fci_run *R)
  * (t1, p1), (t, p) is a strict local extreme, the vertex of the parabola through the three lies
  * in (t2, t) and misses the peak only by O(h^3) times the third derivative; it is taken as a
  * candidate extreme of the current cycle and of the run. Not done across a restart at t1 (mode
- * switch, waveform corner, cycle boundary), where the slope may jump and the extreme is the
- * step end itself. */
+ * switch, waveform corner), where the slope may jump and the extreme is the step end itself,
+ * nor across a cycle boundary (fci_cycles_step). */
 static void refine_extremes(fci_run *R, double t)
 {
   const fci_sys *s = R->sys;
@@ -195,8 +195,11 @@ void fci_cycles_step(fci_run *R, double t, const double *yq)
   if (R->res->nCycle < R->res->nCycleMax) close_cycle(R, yq);
   fci_cycles_fold_extremes(R);
   reset_cycle(R);
-  /* Keep the point at the boundary in the next cycle too, so its extremes include it. */
+  /* Keep the point at the boundary in the next cycle too, so its extremes include it; but not
+   * the step end before it: a parabola through both sides could put the previous cycle's peak
+   * into this one. */
   accumulate(R, t);
+  R->nhist = 1;
   R->next_cycle = (double)(R->res->nCycle + 1) * T;
 }
 

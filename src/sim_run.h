@@ -100,8 +100,8 @@ int fci_run_begin(fci_run *R, const double *yq, fc_error *err);
 enum {
   FCI_STOP_SMOOTH, /* a waveform corner where the forcing's first derivative is continuous
                     * (fc_waveform_corners_smooth): the integrator steps on, no restart */
-  FCI_STOP_REBASE, /* a cycle boundary: the solution is smooth, the restart only re-bases the
-                    * quadratures, and may start from the step size it had */
+  FCI_STOP_REBASE, /* a cycle boundary: the solution is smooth; the quadratures are re-based
+                    * (shifted to zero), the integrator steps on without a restart */
   FCI_STOP_KINK    /* a derivative jump (a kink in every flow of a resistive path and in the
                     * quadratures' integrands), a hold release, the end: a full restart */
 };
