@@ -5,9 +5,10 @@
  * augmented sparse matrix of sys.h (KLU), so the cost per step is linear in network size. Right-hand side returns 0, >0 to ask
  * for a smaller step, <0 on fatal errors (SUNDIALS convention). Discontinuities: root functions
  * locate mode switches; at each switch, waveform corner and cycle boundary the integrator stops
- * (CVodeSetStopTime), so no step straddles one, and restarts (CVodeReInit, CVodeQuadReInit)
- * where the right-hand side or its slope jumps (a switch, a table corner) or the quadratures are
- * re-based (a cycle boundary, a flow-sign root); a pulse's smooth corners need no restart. */
+ * (CVodeSetStopTime), so no step straddles one, and restarts (CVodeReInit) where the
+ * right-hand side or its slope jumps (a switch, a table corner). At a cycle boundary only the
+ * quadratures are re-based (CVodeQuadReInit); a flow-sign root (the kink of a reverse-volume
+ * integrand) and a pulse's smooth corners only end a step. */
 #include <cvodes/cvodes.h> /* CVODE with quadratures: same integrator, same API */
 #include <math.h>
 #include <nvector/nvector_serial.h>
@@ -349,20 +350,16 @@ static int rebase(cv *c, fci_run *R)
   return CVodeQuadReInit(c->mem, c->yq) || set_qatol(c, R) ? FC_ESOLVE : FC_OK;
 }
 
-/* CVodeReInit zeroes CVODE's counters, so they are added up before every restart. */
-static int restart(cv *c, fci_run *R, double t, int soft)
+/* A restart follows a jump of the right-hand side or of its slope (a mode switch, a kink of
+ * the forcing): CVODE starts again at order 1 from a first step of its own estimate, which
+ * after a valve switch is often 1e-9 s or less: the new transient needs it. CVodeReInit zeroes
+ * CVODE's counters, so they are added up before every restart. */
+static int restart(cv *c, fci_run *R, double t)
 {
   R->res->stats.restarts++;
-  /* A soft restart (the solution is smooth through t: a flow-sign root) keeps
-   * the scale of the step it had: back at order 1 it takes half of it, and CVODE's error test
-   * corrects that if it must. Otherwise CVODE estimates a first step (CVodeSetInitStep 0),
-   * which after a valve switch is often 1e-9 s or less: the new transient needs it. */
-  double h0 = 0, hl = 0, hc = 0;
-  if (soft && !CVodeGetLastStep(c->mem, &hl) && !CVodeGetCurrentStep(c->mem, &hc))
-    h0 = 0.5 * (hl > hc ? hl : hc);
   collect_stats(c, &R->res->stats);
-  if (CVodeSetInitStep(c->mem, h0) || CVodeReInit(c->mem, t, c->y)) return FC_ESOLVE;
-  if (!soft) c->lsc.gamma = 0; /* the Jacobian may have changed with the mode: refactor */
+  if (CVodeReInit(c->mem, t, c->y)) return FC_ESOLVE;
+  c->lsc.gamma = 0; /* the Jacobian may have changed with the mode: refactor */
   return rebase(c, R);
 }
 
@@ -422,6 +419,16 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
     double tstop = fci_run_next_stop(R, t, &kind);
     if (CVodeSetStopTime(c->mem, tstop)) { rc = fc_fail(err, FC_ESOLVE, NULL, "stop time"); break; }
     int flag = CVode(c->mem, tend, c->y, &t, CV_ONE_STEP);
+    /* A step that ends on the stop time and holds a root is handed back twice: at the root
+     * (CV_ROOT_RETURN), then as a plain step at tn = tstop within rounding (CV_SUCCESS); CVODES
+     * would report the stop itself only on a third call, which the next CVodeSetStopTime
+     * pre-empts. So that step end is the stop: else a kink there went without its restart and
+     * a hold without its release (CVODES source, cvodes.c, CVode: the root check comes before
+     * the stop-time check). */
+    if (flag == CV_SUCCESS && fabs(t - tstop) <= 1e-12 * fabs(tstop)) {
+      flag = CV_TSTOP_RETURN;
+      t = tstop;
+    }
     if (flag < 0) {
       rc = fc_fail(err, FC_ESOLVE, NULL, "the integrator failed at t = %.9g s near element \"%s\" "
                    "(CVODE flag %d, %s): %s. Hint: tighten or loosen rel_tol/abs_tol, or check for "
@@ -440,14 +447,15 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
     }
     if (rc) break;
     if ((rc = step_points(c, R, t0, t, &m, sp, err))) break;
+    R->step_stopped = flag != CV_SUCCESS;
     rc = fci_run_step_end(R, t, NV_DATA_S(c->y), c->qtot, t - t0, m, sp, err);
     if (rc) break;
     t0 = t;
-    int changed = 0, sign = 0;
+    int changed = 0;
     if (flag == CV_ROOT_RETURN) {
       int *found = R->rootsfound;
       CVodeGetRootInfo(c->mem, found);
-      rc = fci_run_events(R, t, NV_DATA_S(c->y), found, &changed, &sign, err);
+      rc = fci_run_events(R, t, NV_DATA_S(c->y), found, &changed, err);
       if (rc) break;
     }
     if (flag == CV_TSTOP_RETURN) {
@@ -460,8 +468,8 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
      * next steps itself; a restart back to order 1 and a tiny first step would cost more
      * (docs/performance.md: 1/8 of the restarts and ~7 % of the steps of a pulsed tree). */
     int stop = flag == CV_TSTOP_RETURN ? kind : -1;
-    if (changed || sign || stop == FCI_STOP_KINK) {
-      if (restart(c, R, t, !changed && stop != FCI_STOP_KINK)) { rc = fc_fail(err, FC_ESOLVE, NULL, "restart failed: %s", R->cv_msg); break; }
+    if (changed || stop == FCI_STOP_KINK) {
+      if (restart(c, R, t)) { rc = fc_fail(err, FC_ESOLVE, NULL, "restart failed: %s", R->cv_msg); break; }
     } else if (stop == FCI_STOP_REBASE && rebase(c, R)) {
       rc = fc_fail(err, FC_ESOLVE, NULL, "re-basing the quadratures failed: %s", R->cv_msg);
       break;

@@ -57,17 +57,17 @@ void fci_cycles_free(fci_run *R)
  * about p'' h^2 / 8. When the middle one of three successive step-end pressures (t2, p2),
  * (t1, p1), (t, p) is a strict local extreme, the vertex of the parabola through the three lies
  * in (t2, t) and misses the peak only by O(h^3) times the third derivative; it is taken as a
- * candidate extreme of the current cycle and of the run. Not done across a restart at t1 (mode
- * switch, waveform corner), where the slope may jump and the extreme is the step end itself,
- * nor across a cycle boundary (fci_cycles_step). */
+ * candidate extreme of the current cycle and of the run. Not done across a step end t1 on a
+ * root or a stop time (mode switch, flow-sign root, waveform corner, cycle boundary): there the
+ * slope or the curvature may jump, a parabola through both sides can overshoot by far (a pump
+ * node's pressure falling onto a plateau at a smooth pulse corner: -415 Pa for a true -202 Pa),
+ * and the extreme is the step end itself; nor across a cycle boundary, where a parabola could
+ * put the previous cycle's peak into the next one. */
 static void refine_extremes(fci_run *R, double t)
 {
   const fci_sys *s = R->sys;
-  const fc_sim_result *r = R->res;
-  int kink = r->stats.restarts != R->restarts_seen;
-  R->restarts_seen = r->stats.restarts;
   if (R->nhist > 0 && t <= R->th1) return; /* the same point again */
-  if (R->nhist == 2 && !kink) {
+  if (R->nhist == 2) {
     double h2 = R->th1 - R->th2, h1 = t - R->th1;
     for (int n = 0; n < s->nN; n++) {
       double a = R->ph2[n], b = R->ph1[n], c = s->p[n];
@@ -88,7 +88,7 @@ static void refine_extremes(fci_run *R, double t)
   memcpy(R->ph1, s->p, (size_t)s->nN * sizeof *s->p);
   R->th2 = R->th1;
   R->th1 = t;
-  R->nhist = kink ? 1 : (R->nhist < 2 ? R->nhist + 1 : 2);
+  R->nhist = R->step_stopped ? 1 : (R->nhist < 2 ? R->nhist + 1 : 2);
 }
 
 void fci_cycles_extremes(fci_run *R)
@@ -195,11 +195,8 @@ void fci_cycles_step(fci_run *R, double t, const double *yq)
   if (R->res->nCycle < R->res->nCycleMax) close_cycle(R, yq);
   fci_cycles_fold_extremes(R);
   reset_cycle(R);
-  /* Keep the point at the boundary in the next cycle too, so its extremes include it; but not
-   * the step end before it: a parabola through both sides could put the previous cycle's peak
-   * into this one. */
+  /* Keep the point at the boundary in the next cycle too, so its extremes include it. */
   accumulate(R, t);
-  R->nhist = 1;
   R->next_cycle = (double)(R->res->nCycle + 1) * T;
 }
 

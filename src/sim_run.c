@@ -89,7 +89,7 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
   fci_sys *s = R->sys;
   int E = net->nElem;
   if (!NEW(R->qoff, E) || !NEW(R->quad_el, E) || !NEW(R->qbuf, E) || !NEW(R->modes, E) || !NEW(R->corner_el, E) ||
-      !NEW(R->sign_el, E) || !NEW(R->x0, s->nx) || !NEW(R->v0, s->ns) || alloc_result(R) ||
+      !NEW(R->sign_el, E) || !NEW(R->sign_side, E) || !NEW(R->x0, s->nx) || !NEW(R->v0, s->ns) || alloc_result(R) ||
       fci_cycles_init(R))
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
   /* Backflow integrals max(-q, 0) have a kink where q changes sign; for the elements whose
@@ -132,7 +132,7 @@ void fci_run_free(fci_run *R)
   fci_cycles_free(R);
   fc_sim_result_free(R->res);
   fc_free(R->qoff); fc_free(R->quad_el); fc_free(R->qbuf); fc_free(R->modes); fc_free(R->corner_el);
-  fc_free(R->rootsfound); fc_free(R->sign_el); fc_free(R->x0); fc_free(R->v0); fc_free(R->vq_cycle);
+  fc_free(R->rootsfound); fc_free(R->sign_el); fc_free(R->sign_side); fc_free(R->x0); fc_free(R->v0); fc_free(R->vq_cycle);
   fc_free(R->qpn); fc_free(R->qmag); fc_free(R->qtmp);
   fc_free(R->rep_el); fc_free(R->rep_node); fc_free(R->st_el); fc_free(R->ext_el);
   fc_free(R->st_node); fc_free(R->st_store);
@@ -190,11 +190,22 @@ static int eval_or_fail(fci_run *R, double t, const double *x, fc_error *err)
   return FC_OK;
 }
 
+/* After an evaluation at a step end: the side of each sign root's flow, where it is not 0. */
+static void note_sides(fci_run *R)
+{
+  for (int k = 0; k < R->nsign; k++) {
+    double q = R->sys->q[R->sign_el[k]];
+    if (q != 0) R->sign_side[k] = q > 0 ? 1 : -1;
+  }
+}
+
 int fci_run_begin(fci_run *R, const double *yq, fc_error *err)
 {
   int rc = eval_or_fail(R, 0.0, R->x0, err);
   if (rc) return rc;
   for (int k = 0; k < R->sys->ns; k++) R->v0[k] = R->x0[k];
+  for (int k = 0; k < R->nsign; k++) R->sign_side[k] = 1;
+  note_sides(R);
   memcpy(R->vq_cycle, yq, (size_t)R->nq * sizeof *yq);
   fci_cycles_extremes(R); /* the first cycle includes its start, as later ones do */
   fci_steps_left(R);
@@ -278,6 +289,7 @@ int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, do
   int rc = eval_or_fail(R, t, x, err);
   if (rc) return rc;
   if (h > 0) fci_steps_integrate(R, h, m, s);
+  note_sides(R);
   fci_run_quad_rhs(R, R->qtmp);
   for (int k = 0; k < R->nq; k++)
     if (fabs(R->qtmp[k]) > R->qmag[k]) R->qmag[k] = fabs(R->qtmp[k]);
@@ -288,18 +300,16 @@ int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, do
 }
 
 int fci_run_events(fci_run *R, double t, const double *x, const int *found, int *changed,
-                   int *sign, fc_error *err)
+                   fc_error *err)
 {
   fci_sys *s = R->sys;
   int rc = eval_or_fail(R, t, x, err);
   if (rc) return rc;
   *changed = 0;
-  /* A flow-sign root only marks the kink of a reverse-volume integrand, but it restarts all the
-   * same (a soft restart, sim.c): a flow that then stays at exactly zero (a stagnant branch)
-   * would otherwise be a root "found at and very near" the last one, which CVODES rejects
-   * (CV_ILL_INPUT); a restart deactivates such a root until it moves away. */
-  *sign = 0;
-  for (int k = 0; k < R->nsign; k++) *sign |= found[s->nroot + k] != 0;
+  /* A flow found crossing zero is on its new side from the root on, even where it is exactly 0
+   * there (fci_run_sign_roots): else the root would be found again at the same instant. */
+  for (int k = 0; k < R->nsign; k++)
+    if (found[s->nroot + k]) R->sign_side[k] = found[s->nroot + k] > 0 ? 1 : -1;
   for (int i = 0; i < s->nE; i++) {
     fc_elem *e = &R->net->elem[i];
     if (!e->nRoot || !e->type->xEvent) continue;
@@ -384,7 +394,20 @@ int fci_run_release(fci_run *R, double t, const double *x, int *changed, fc_erro
   return rc;
 }
 
+/* A flow-sign root only ends a step on the kink of a reverse-volume integrand: the state is
+ * smooth there and the integrator steps on without a restart (a restart at each cost 5-10
+ * steps, docs/performance.md). But a flow that reaches exactly zero and stays there (a flow
+ * source's pause, a stagnant branch) would be a root "found at and very near" the last one,
+ * which CVODES rejects (CV_ILL_INPUT, cvRcheck2). So an exact zero counts as a tiny value on
+ * the side where the flow was last seen at a step end or entered at its last root: a plateau of
+ * zero flow is no root, the root comes where the flow leaves it on the other side. The tiny
+ * value is far below any flow worth resolving, yet its product with another g value (CVODES
+ * tests sign changes by glo * ghi < 0, cvRootfind) must not underflow to zero: 1e-150. */
+#define ZERO_SIDE 1e-150
 void fci_run_sign_roots(const fci_run *R, double *g)
 {
-  for (int k = 0; k < R->nsign; k++) g[k] = R->sys->q[R->sign_el[k]];
+  for (int k = 0; k < R->nsign; k++) {
+    double q = R->sys->q[R->sign_el[k]];
+    g[k] = q != 0 ? q : R->sign_side[k] * ZERO_SIDE;
+  }
 }

@@ -50,13 +50,15 @@ typedef struct fci_run {
   double *ph1, *ph2;         /* per node: pressure at the last and the second-last step end */
   double th1, th2;           /* their times */
   int nhist;                 /* step ends in the history (0, 1, 2) */
-  long restarts_seen;        /* stats.restarts at the last step end (a restart = slope kink) */
+  int step_stopped;          /* the step now ending ended on a root or a stop time (set by the
+                                driver): a possible kink, where the extremes' history restarts */
   int *mode_el;              /* elements with modes (nRoot > 0) */
   int nmode;
   double *win_start;         /* chatter window start per element */
   int *win_count;            /* switches in the window */
   int done;                  /* until_periodic reached: stop */
   int *sign_el;              /* elements whose flow sign is a root function (nsign) */
+  signed char *sign_side;    /* per sign root: sign of its last nonzero flow at a step end (+-1) */
   int nsign;
   int nroot_all;             /* element roots + flow-sign roots */
   double *atol, *wscale;     /* the integrator's per-state absolute tolerances and error-weight
@@ -72,7 +74,8 @@ typedef struct fci_run {
   int *st_store, nst_store;  /* store indices of reported nodes */
 } fci_run;
 
-/* Flow-sign roots, after the elements' own: g[k] = q of sign_el[k]. */
+/* Flow-sign roots, after the elements' own: g[k] = q of sign_el[k]; where that flow is exactly
+ * zero, the side it was last seen on times DBL_MIN (see fci_run_sign_roots). */
 void fci_run_sign_roots(const fci_run *R, double *g);
 
 /* Cycle accounting (src/sim_cycles.c). */
@@ -117,9 +120,9 @@ int fci_run_sample(fci_run *R, double ts, const double *x, fc_error *err);
 int fci_run_step_end(fci_run *R, double t, const double *x, const double *yq, double h, int m,
                      const double *s, fc_error *err);
 /* At a root return: switch the modes of the elements whose roots were found (*changed = 1 if
- * one switched) and note whether a flow-sign root was among them (*sign = 1). */
+ * one switched). A flow-sign root needs nothing: it only ends the step on an integrand's kink. */
 int fci_run_events(fci_run *R, double t, const double *x, const int *found, int *changed,
-                   int *sign, fc_error *err);
+                   fc_error *err);
 /* Final sample and means. */
 int fci_run_finish(fci_run *R, double t, const double *x, const double *yq, fc_error *err);
 /* Step integrals (src/sim_steps.c). fci_steps_points: interior points in (0, 1) for a step
