@@ -10,10 +10,15 @@
 /* Elements with modes, forcing or a culture role, and those in report.track: every cycle of
  * theirs is kept in the result (the summary reports them cycle by cycle), and the volumes of
  * the two-terminal ones are CVODES quadratures, their flow signs roots. */
+/* Valves (modes), culture regions, sources and report.elements. A source is an element whose
+ * forcing has a corner somewhere: the type's slot alone is not enough, or every chamber (whose
+ * type can be driven) would count, and "tracked" statistics would cover every node of a tree. */
 static int tracked(const fc_net *net, int i)
 {
   const fc_elem *e = &net->elem[i];
-  if (e->nRoot > 0 || e->culture || e->type->xCorner) return 1;
+  int sm;
+  if (e->nRoot > 0 || e->culture || (e->type->xCorner && e->type->xCorner(e, 0.0, &sm) < INFINITY))
+    return 1;
   for (int k = 0; k < net->report.nTrack; k++)
     if (net->report.track[k] == i) return 1;
   return 0;

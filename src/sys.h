@@ -110,6 +110,12 @@ typedef struct fci_sys {
   double *Cconst;           /* per store index: its constant total compliance, 0 if not all
                                of its elements are constant */
   int ldirty;               /* 1: re-read the coefficients (a mode switched) */
+  /* Affine Newton matrix: where every FLOW element is linear in its mode, no element has own
+   * states and every compliance is constant, A(gamma) = aa0 + gamma aa1 exactly until a mode
+   * switches, so a set-up needs one pass over the nonzeros instead of stamping every element. */
+  int aff_able;             /* the network qualifies, in its current modes */
+  int aff_ok;               /* aa0 and aa1 hold the current modes' matrices */
+  double *aa0, *aa1;        /* A.nnz each, allocated on first use */
   fci_krylov *kr;           /* iterative Newton solves; NULL: direct (KLU) */
 } fci_sys;
 

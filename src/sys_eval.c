@@ -3,6 +3,7 @@
 #include <math.h>
 #include <string.h>
 
+#include "ferrocirc/alloc.h"
 #include "sys.h"
 
 #define NEWTON_MAX 30 /* algebraic Newton iterations for nonlinear elements; affine ones need 1 */
@@ -265,11 +266,31 @@ static void stamp_aug(fci_sys *s, double t, const double *x, double gamma, int s
   }
 }
 
+/* A(gamma) from the two stamped parts (sys.h: aff_able): A(0), then A(1) - A(0). The sum
+ * differs from a direct stamp at gamma only by rounding. */
+static int stamp_affine(fci_sys *s, double t, const double *x, double gamma)
+{
+  size_t nnz = (size_t)s->A.nnz;
+  double *A = s->A.val;
+  if (!s->aff_ok) {
+    if ((!s->aa0 && !(s->aa0 = fc_calloc(nnz, sizeof *s->aa0))) ||
+        (!s->aa1 && !(s->aa1 = fc_calloc(nnz, sizeof *s->aa1))))
+      return -1;
+    stamp_aug(s, t, x, 0.0, 0);
+    memcpy(s->aa0, A, nnz * sizeof *A);
+    stamp_aug(s, t, x, 1.0, 0);
+    for (size_t p = 0; p < nnz; p++) s->aa1[p] = A[p] - s->aa0[p];
+    s->aff_ok = 1;
+  }
+  for (size_t p = 0; p < nnz; p++) A[p] = s->aa0[p] + gamma * s->aa1[p];
+  return 0;
+}
+
 static int setup(fci_sys *s, double t, const double *x, double gamma, int steady)
 {
   if (fci_sys_eval(s, t, x)) return 1;
   memcpy(s->Cpre, s->Csum, (size_t)s->ns * sizeof *s->Cpre);
-  stamp_aug(s, t, x, gamma, steady);
+  if (steady || !s->aff_able || stamp_affine(s, t, x, gamma)) stamp_aug(s, t, x, gamma, steady);
   s->nAfact++;
   int rc = fci_klu_factor(&s->ak, &s->A, s->afactored);
   s->afactored = (rc == FC_OK);

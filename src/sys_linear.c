@@ -39,7 +39,7 @@ void fci_sys_linear_free(fci_sys *s)
 {
   fc_free(s->ea); fc_free(s->eb); fc_free(s->lin_el); fc_free(s->lin_a); fc_free(s->lin_b);
   fc_free(s->lin_k); fc_free(s->gen_el); fc_free(s->Cconst); fc_free(s->flow_el);
-  fc_free(s->state_el); fc_free(s->root_el);
+  fc_free(s->state_el); fc_free(s->root_el); fc_free(s->aa0); fc_free(s->aa1);
 }
 
 void fci_sys_linear_refresh(fci_sys *s)
@@ -73,5 +73,8 @@ void fci_sys_linear_refresh(fci_sys *s)
     }
     s->Cconst[k] = C > 0 ? C : 0;
   }
+  s->aff_able = s->ngen == 0 && s->nstate_el == 0 && !s->nonlinear;
+  for (int k = 0; k < s->ns && s->aff_able; k++) s->aff_able = s->Cconst[k] > 0;
+  s->aff_ok = 0;
   s->ldirty = 0;
 }
