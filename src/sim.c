@@ -397,14 +397,18 @@ static int step_points(cv *c, fci_run *R, double t0, double t, int *m, double *s
   if (CVodeGetLastOrder(c->mem, &order)) order = 5;
   *m = fci_steps_points(order, s);
   if (!(t > t0)) return FC_OK;
-  for (int j = 0; j < *m; j++) {
+  /* The root functions have just evaluated the network at the step end; the interior points
+   * go to the second set of buffers so that fci_run_step_end finds that evaluation cached. */
+  int swapped = fci_sys_swap(R->sys), rc = FC_OK;
+  for (int j = 0; j < *m && !rc; j++) {
     double ts = t0 + s[j] * (t - t0);
     if (CVodeGetDky(c->mem, ts, 0, c->ytmp))
-      return fc_fail(err, FC_ESOLVE, NULL, "interpolation at t = %.9g s failed", ts);
-    int rc = fci_run_step_point(R, j, ts, NV_DATA_S(c->ytmp), err);
-    if (rc) return rc;
+      rc = fc_fail(err, FC_ESOLVE, NULL, "interpolation at t = %.9g s failed", ts);
+    else
+      rc = fci_run_step_point(R, j, ts, NV_DATA_S(c->ytmp), err);
   }
-  return FC_OK;
+  if (swapped) fci_sys_swap(R->sys);
+  return rc;
 }
 
 static int integrate(cv *c, fci_run *R, fc_error *err)

@@ -96,6 +96,10 @@ typedef struct fci_sys {
   double tlast;             /* its time */
   int cached;               /* 1 if p, q, qin hold the evaluation at (tlast, xlast) */
   long nEval, nEvalHit;     /* evaluations requested, and answered from the cache */
+  /* A second set of the per-point buffers (fci_sys_swap): the interior points of a step are
+   * evaluated into it, so the evaluation at the step end survives them in the cache. */
+  double *p2, *q2, *qin2, *Csum2, *dCsum2, *xlast2, tlast2;
+  int cached2;
   /* fast path (src/sys_linear.c) */
   int *ea, *eb;             /* per element: from and to node (eb = -1 if one-terminal) */
   int nlin, *lin_el, *lin_a, *lin_b; /* FLOW elements linear in their modes, their nodes */
@@ -132,6 +136,10 @@ void fci_sys_invalidate(fci_sys *s);
  * fci_sys_invalidate. Returns 0, or >0 if the algebraic solve failed (singular: recoverable by a smaller
  * step only if caused by a transient state; the caller decides). */
 int fci_sys_eval(fci_sys *s, double t, const double *x);
+/* Exchange the evaluation buffers (p, q, qin, Csum, dCsum) and the cache with the second set;
+ * call it again to return. Returns 0 and does nothing where an evaluation also writes the
+ * shared partials dqa, dqb, dqx (elements evaluated through xFlow), 1 if it swapped. */
+int fci_sys_swap(fci_sys *s);
 /* After fci_sys_eval: f = dx/dt into xdot (length nx). */
 int fci_sys_rhs_from_eval(fci_sys *s, double t, const double *x, double *xdot);
 /* Newton matrix: assemble and factor at (t, x, gamma); solve in place on r (length nx). */

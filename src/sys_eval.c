@@ -127,9 +127,29 @@ static void link_flows(fci_sys *s)
   }
 }
 
+#define SWAP(a, b) do { void *tmp_ = (a); (a) = (b); (b) = tmp_; } while (0)
+
+int fci_sys_swap(fci_sys *s)
+{
+  if (s->ngen > 0 || s->ldirty) return 0;
+  SWAP(s->p, s->p2);
+  SWAP(s->q, s->q2);
+  SWAP(s->qin, s->qin2);
+  SWAP(s->Csum, s->Csum2);
+  SWAP(s->dCsum, s->dCsum2);
+  SWAP(s->xlast, s->xlast2);
+  double t = s->tlast;
+  s->tlast = s->tlast2;
+  s->tlast2 = t;
+  int c = s->cached;
+  s->cached = s->cached2;
+  s->cached2 = c;
+  return 1;
+}
+
 void fci_sys_invalidate(fci_sys *s)
 {
-  s->cached = 0;
+  s->cached = s->cached2 = 0;
   s->gdirty = 1;
   s->ldirty = 1;
 }

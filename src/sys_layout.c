@@ -171,7 +171,8 @@ int fci_sys_build(fc_net *net, fci_sys **out, fc_error *err)
   if ((rc = fci_sys_classify(s, err)) || (rc = layout(s, err)) || (rc = build_patterns(s, err)))
     goto fail;
   if (!NEW(s->Csum, s->ns) || !NEW(s->dCsum, s->ns) || !NEW(s->zbuf, s->nz) || !NEW(s->Cpre, s->ns) || !NEW(s->xlast, s->nx) ||
-      !NEW(s->abuf, s->nx + s->nz + 1)) {
+      !NEW(s->abuf, s->nx + s->nz + 1) || !NEW(s->p2, s->nN) || !NEW(s->q2, s->nE) ||
+      !NEW(s->qin2, s->nN) || !NEW(s->Csum2, s->ns) || !NEW(s->dCsum2, s->ns) || !NEW(s->xlast2, s->nx)) {
     rc = fc_fail(err, FC_ENOMEM, NULL, "out of memory");
     goto fail;
   }
@@ -199,6 +200,8 @@ void fci_sys_free(fci_sys *s)
   fc_free(s->store_el); fc_free(s->xnode); fc_free(s->znode); fc_free(s->p); fc_free(s->q);
   fc_free(s->dqa); fc_free(s->dqb); fc_free(s->dqx); fc_free(s->qin); fc_free(s->Csum);
   fc_free(s->dCsum); fc_free(s->zbuf); fc_free(s->gslot); fc_free(s->aslot); fc_free(s->abuf);
+  fc_free(s->p2); fc_free(s->q2); fc_free(s->qin2); fc_free(s->Csum2); fc_free(s->dCsum2);
+  fc_free(s->xlast2);
   fci_sys_linear_free(s);
   fc_free(s);
 }
