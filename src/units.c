@@ -24,13 +24,96 @@
 
 #include "elem.h" /* fci_check_keys */
 #include "ferrocirc/alloc.h"
+#include "units_quick.h"
 
 #define UNIT_TEXT_MAX 200 /* longest quantity string we accept */
 
 struct fc_units {
-  ut_system *sys;
+  ut_system *sys;              /* NULL until a unit outside the quick table is met */
   ut_unit   *si[FC_DIM_COUNT]; /* SI unit of each dimension */
+  int        no_quick;         /* 1: every unit through the database (tests) */
 };
+
+/* The unit strings of most files. Reading the UDUNITS-2 database costs about 25 million
+ * instructions (~6 ms), most of a small run's time, so these are converted from this table and
+ * the database is read only when another unit turns up. Each factor is the one UDUNITS-2 gives,
+ * bit for bit: to_si = the converter unit -> SI applied to 1, from_si = SI -> unit applied to
+ * 1 (tests/test_units.c compares every entry, and v * to_si with the converter's own result
+ * for random v, against the database). Pressure units serve stresses too. */
+typedef struct quick_unit {
+  const char *text;
+  fc_dim dim;
+  double to_si, from_si;
+} quick_unit;
+
+static const quick_unit quick[] = {
+  {"Pa", FC_DIM_PRESSURE, 1, 1},
+  {"mPa", FC_DIM_PRESSURE, 0.001, 1000},
+  {"kPa", FC_DIM_PRESSURE, 1000, 0.001},
+  {"mbar", FC_DIM_PRESSURE, 100, 0.01},
+  {"bar", FC_DIM_PRESSURE, 100000, 1e-05},
+  {"mmHg", FC_DIM_PRESSURE, 133.322387415, 0.0075006157584565629},
+  {"psi", FC_DIM_PRESSURE, 6894.757293168359, 0.00014503773773020927},
+  {"cmH2O", FC_DIM_PRESSURE, 98.0665, 0.010197162129779282},
+  {"m", FC_DIM_LENGTH, 1, 1},
+  {"mm", FC_DIM_LENGTH, 0.001, 1000},
+  {"um", FC_DIM_LENGTH, 1e-06, 1000000},
+  {"\u00b5m", FC_DIM_LENGTH, 1e-06, 1000000},  /* micro sign */
+  {"\u03bcm", FC_DIM_LENGTH, 1e-06, 1000000},  /* Greek mu */
+  {"cm", FC_DIM_LENGTH, 0.01, 100},
+  {"m3", FC_DIM_VOLUME, 1, 1},
+  {"uL", FC_DIM_VOLUME, 1.0000000000000003e-09, 999999999.99999976},
+  {"nL", FC_DIM_VOLUME, 1.0000000000000004e-12, 999999999999.99963},
+  {"mL", FC_DIM_VOLUME, 1.0000000000000002e-06, 999999.99999999988},
+  {"m3/s", FC_DIM_FLOW, 1, 1},
+  {"uL/min", FC_DIM_FLOW, 1.6666666666666671e-11, 59999999999.999985},
+  {"\u00b5L/min", FC_DIM_FLOW, 1.6666666666666671e-11, 59999999999.999985},
+  {"\u03bcL/min", FC_DIM_FLOW, 1.6666666666666671e-11, 59999999999.999985},
+  {"uL/s", FC_DIM_FLOW, 1.0000000000000003e-09, 999999999.99999976},
+  {"nL/min", FC_DIM_FLOW, 1.6666666666666673e-14, 59999999999999.977},
+  {"nL/s", FC_DIM_FLOW, 1.0000000000000004e-12, 999999999999.99963},
+  {"mL/min", FC_DIM_FLOW, 1.666666666666667e-08, 59999999.999999985},
+  {"mL/h", FC_DIM_FLOW, 2.7777777777777782e-10, 3599999999.9999995},
+  {"s", FC_DIM_TIME, 1, 1},
+  {"ms", FC_DIM_TIME, 0.001, 1000},
+  {"min", FC_DIM_TIME, 60, 0.016666666666666666},
+  {"Hz", FC_DIM_FREQUENCY, 1, 1},
+  {"Pa.s", FC_DIM_VISCOSITY, 1, 1},
+  {"mPa.s", FC_DIM_VISCOSITY, 0.001, 1000},
+  {"kg/m3", FC_DIM_DENSITY, 1, 1},
+  {"Pa.s/m3", FC_DIM_RESISTANCE, 1, 1},
+  {"m3/Pa", FC_DIM_COMPLIANCE, 1, 1},
+  {"N/m", FC_DIM_TENSION, 1, 1},
+  {"mN/m", FC_DIM_TENSION, 0.001, 1000},
+  {"A/m", FC_DIM_FIELD, 1, 1},
+  {"kA/m", FC_DIM_FIELD, 1000, 0.001},
+  {"T", FC_DIM_FLUX_DENSITY, 1, 1},
+  {"mT", FC_DIM_FLUX_DENSITY, 0.001, 1000},
+};
+
+static const quick_unit *quick_find(const fc_units *u, const char *text, fc_dim dim)
+{
+  if (u->no_quick) return NULL;
+  for (size_t k = 0; k < sizeof quick / sizeof quick[0]; k++)
+    if ((quick[k].dim == dim || (dim == FC_DIM_STRESS && quick[k].dim == FC_DIM_PRESSURE)) &&
+        !strcmp(quick[k].text, text))
+      return &quick[k];
+  return NULL;
+}
+
+size_t fci_units_quick(const char **text, int *dim, double *to_si, double *from_si, size_t k)
+{
+  size_t n = sizeof quick / sizeof quick[0];
+  if (k < n) {
+    *text = quick[k].text;
+    *dim = (int)quick[k].dim;
+    *to_si = quick[k].to_si;
+    *from_si = quick[k].from_si;
+  }
+  return n;
+}
+
+void fci_units_set_quick(fc_units *u, int on) { u->no_quick = !on; }
 
 typedef struct dim_info {
   const char *name;    /* human name for messages */
@@ -108,26 +191,32 @@ static int add_symbols(ut_system *sys)
 
 int fc_units_open(fc_units **out, fc_error *err)
 {
-  *out = NULL;
-  fc_units *u = fc_calloc(1, sizeof *u);
-  if (!u) return fc_fail(err, FC_ENOMEM, NULL, "out of memory opening the unit system");
+  *out = fc_calloc(1, sizeof **out);
+  return *out ? FC_OK : fc_fail(err, FC_ENOMEM, NULL, "out of memory opening the unit system");
+}
+
+/* Read the database on first need (a unit outside the quick table). u is const in the API:
+ * the lazily read database changes no answer, only how it is found. */
+static int load(const fc_units *cu, const char *path, fc_error *err)
+{
+  fc_units *u = (fc_units *)cu;
+  if (u->sys) return FC_OK;
   ut_set_error_message_handler(ut_ignore);
   u->sys = ut_read_xml(NULL);
-  if (!u->sys) {
-    fc_units_free(u);
-    return fc_fail(err, FC_EIO, NULL, "cannot read the UDUNITS-2 unit database (status %d); "
+  if (!u->sys)
+    return fc_fail(err, FC_EIO, path, "cannot read the UDUNITS-2 unit database (status %d); "
                    "is libudunits2-data installed?", (int)ut_get_status());
-  }
   if (add_symbols(u->sys)) goto fail;
   for (int d = 0; d < FC_DIM_COUNT; d++) {
     u->si[d] = ut_parse(u->sys, dims[d].ut, UT_ASCII);
     if (!u->si[d]) goto fail;
   }
-  *out = u;
   return FC_OK;
 fail:
-  fc_units_free(u);
-  return fc_fail(err, FC_EIO, NULL, "the UDUNITS-2 database lacks a unit ferrocirc needs");
+  for (int d = 0; d < FC_DIM_COUNT; d++) { ut_free(u->si[d]); u->si[d] = NULL; }
+  ut_free_system(u->sys);
+  u->sys = NULL;
+  return fc_fail(err, FC_EIO, path, "the UDUNITS-2 database lacks a unit ferrocirc needs");
 }
 
 void fc_units_free(fc_units *u)
@@ -238,9 +327,17 @@ int fc_units_parse(const fc_units *u, const char *text, fc_dim dim, double *si,
                    "(or a plain JSON number in %s)", text, article(dims[dim].name),
                    dims[dim].name, dims[dim].example, dims[dim].si);
   }
+  const quick_unit *qu = quick_find(u, ustr, dim);
+  if (qu) {
+    double r = v * qu->to_si;
+    if (!isfinite(r)) return fc_fail(err, FC_EPARAM, path, "\"%s\" is out of range in %s", text,
+                                     dims[dim].si);
+    *si = r;
+    return FC_OK;
+  }
   ut_unit *unit;
-  int rc = parse_unit(u, text, ustr, dim, &unit, path, err);
-  if (rc) return rc;
+  int rc = load(u, path, err);
+  if (rc || (rc = parse_unit(u, text, ustr, dim, &unit, path, err))) return rc;
   cv_converter *cv = ut_get_converter(unit, u->si[dim]);
   ut_free(unit);
   if (!cv) return fc_fail(err, FC_ENOMEM, path, "\"%s\": cannot convert to %s", text,
@@ -317,6 +414,10 @@ int fc_units_out_factor(const fc_units *u, const char *unit, fc_dim dim, double 
                    UNIT_TEXT_MAX);
   memcpy(buf, unit, strlen(unit) + 1);
   char *s = trim(buf);
+  const quick_unit *qu = quick_find(u, s, dim);
+  if (qu) return *factor = qu->from_si, FC_OK;
+  int rc = *s ? load(u, NULL, err) : FC_OK;
+  if (rc) return rc;
   ut_unit *un = *s ? ut_parse(u->sys, s, UT_UTF8) : NULL;
   if (!un)
     return fc_fail(err, FC_EPARAM, NULL, "%s: unknown unit \"%s\"; expected a unit of %s such "
@@ -350,13 +451,14 @@ int fc_units_convert(const fc_units *u, double x, const char *from, const char *
   if (strlen(from) > UNIT_TEXT_MAX || strlen(to) > UNIT_TEXT_MAX)
     return fc_fail(err, FC_EPARAM, NULL, "unit longer than %d characters", UNIT_TEXT_MAX);
   if (!strcmp(from, to)) { *y = x; return FC_OK; }
+  int rc = load(u, NULL, err);
+  if (rc) return rc;
   memcpy(a, from, strlen(from) + 1);
   memcpy(b, to, strlen(to) + 1);
   char *sa = trim(a), *sb = trim(b);
   ut_unit *ua = *sa ? ut_parse(u->sys, sa, UT_UTF8) : ut_get_dimensionless_unit_one(u->sys);
   ut_unit *ub = *sb ? ut_parse(u->sys, sb, UT_UTF8) : ut_get_dimensionless_unit_one(u->sys);
   cv_converter *cv = ua && ub && same_dimension(ua, ub) ? ut_get_converter(ua, ub) : NULL;
-  int rc = FC_OK;
   if (cv) *y = cv_convert_double(cv, x);
   else rc = fc_fail(err, FC_EPARAM, NULL, "cannot convert \"%s\" to \"%s\"", from, to);
   cv_free(cv);

@@ -8,10 +8,12 @@
 
 #include <cjson/cJSON.h>
 #include <math.h>
+#include <stdio.h>
 #include <string.h>
 
 #include "ferrocirc/alloc.h"
 #include "ferrocirc/units.h"
+#include "units_quick.h"
 
 #define PI 3.14159265358979323846
 
@@ -220,6 +222,52 @@ static void open_survives_allocation_failure(void **state)
   assert_null(u);
 }
 
+/* The quick table (src/units.c) gives what the UDUNITS-2 database gives, bit for bit: the
+ * factor to SI and the output factor from SI of each entry, and the converted value of random
+ * quantities in each unit (v * factor against the database's converter applied to v). The
+ * database here is the general-purpose library itself, with the table switched off. */
+static void quick_units_match_the_database_bit_for_bit(void **state)
+{
+  (void)state;
+  fc_units *V = NULL;
+  fc_error err;
+  fc_error_clear(&err);
+  assert_int_equal(fc_units_open(&V, &err), FC_OK);
+  fci_units_set_quick(V, 0);
+  const char *text;
+  int dim, bad = 0;
+  double to, from;
+  uint64_t g = 0x9e3779b97f4a7c15ull;
+  for (size_t k = 0, n = fci_units_quick(&text, &dim, &to, &from, 0); k < n; k++) {
+    fci_units_quick(&text, &dim, &to, &from, k);
+    char q[96];
+    double a = NAN, b = NAN, f = NAN;
+    snprintf(q, sizeof q, "1 %s", text);
+    assert_int_equal(fc_units_parse(V, q, (fc_dim)dim, &a, "$.x", &err), FC_OK);
+    assert_int_equal(fc_units_out_factor(V, text, (fc_dim)dim, &f, "unit", &err), FC_OK);
+    if (memcmp(&a, &to, sizeof a) || memcmp(&f, &from, sizeof f)) {
+      print_error("%s: the database gives to_si %.17g, from_si %.17g; the table %.17g, %.17g\n",
+                  text, a, f, to, from);
+      bad++;
+      continue;
+    }
+    for (int r = 0; r < 2000; r++) { /* log-uniform magnitudes 1e-12 .. 1e12, both signs */
+      g ^= g << 13; g ^= g >> 7; g ^= g << 17;
+      double v = pow(10.0, -12.0 + 24.0 * (double)(g >> 11) * 0x1p-53) * (g & 1 ? -1 : 1);
+      snprintf(q, sizeof q, "%.17g %s", v, text);
+      assert_int_equal(fc_units_parse(U, q, (fc_dim)dim, &a, "$.x", &err), FC_OK);
+      assert_int_equal(fc_units_parse(V, q, (fc_dim)dim, &b, "$.x", &err), FC_OK);
+      if (memcmp(&a, &b, sizeof a)) {
+        print_error("%s: %.17g gives %.17g from the table, %.17g from the database\n", text, v, a, b);
+        bad++;
+        break;
+      }
+    }
+  }
+  fc_units_free(V);
+  assert_int_equal(bad, 0);
+}
+
 int main(void)
 {
   const struct CMUnitTest tests[] = {
@@ -233,6 +281,7 @@ int main(void)
     cmocka_unit_test(output_factors),
     cmocka_unit_test(dimension_names),
     cmocka_unit_test(open_survives_allocation_failure),
+    cmocka_unit_test(quick_units_match_the_database_bit_for_bit),
   };
   return cmocka_run_group_tests(tests, setup, teardown);
 }

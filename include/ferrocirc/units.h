@@ -1,6 +1,6 @@
 /* ferrocirc — physical quantities at the edges: unit strings in, SI inside, units out.
  *
- * Backed by UDUNITS-2 (its XML database is read once per fc_units object, ~9 ms). A quantity in a
+ * Backed by UDUNITS-2 (its XML database is read at most once per fc_units object, ~6 ms). A quantity in a
  * file is either a JSON number, taken as SI, or a string "NUMBER UNIT" ("10 uL/min", "500 um",
  * "0.72 mPa.s"); the unit must be convertible to the SI unit of the expected dimension. The number
  * is split from the unit by us (UDUNITS would read "3 mbar" as the unit 300 Pa). Not thread-safe:
@@ -37,7 +37,9 @@ typedef enum fc_dim {
   FC_DIM_COUNT
 } fc_dim;
 
-/* Open the unit system (reads the UDUNITS-2 database). On failure returns FC_EIO. */
+/* Open the unit system. The UDUNITS-2 database is read on first need, by the first call that
+ * meets a unit outside a built-in table of common ones ("mbar", "uL/min", "um", ...; their
+ * factors are the database's own); a missing database is reported by that call (FC_EIO). */
 int fc_units_open(fc_units **out, fc_error *err);
 void fc_units_free(fc_units *u);
 
