@@ -12,6 +12,7 @@
 #include <cvodes/cvodes.h> /* CVODE with quadratures: same integrator, same API */
 #include <math.h>
 #include <nvector/nvector_serial.h>
+#include <sunnonlinsol/sunnonlinsol_newton.h>
 #include <signal.h>
 #include <stdio.h>
 #include <string.h>
@@ -180,6 +181,29 @@ static SUNLinearSolver ls_new(ls_ctx *L, SUNContext ctx)
   return S;
 }
 
+/* The Newton iteration. Where the network is linear in its state (sys.h: aff_able: every
+ * element affine in pressure in its mode, constant compliances, no own states) the corrector
+ * equation of a BDF step, y - gamma f(t, y) = a, is linear too, and the direct solve is exact
+ * for the current gamma (ls_solve_direct refactors when gamma changes). One Newton step then
+ * solves it to rounding, and CVODE's test would only spend a second right-hand side and solve
+ * to confirm a correction of rounding size (SUNDIALS User Guide, CVODE "Nonlinear solver": the
+ * test needs a second iterate for its rate estimate). So the test passes after the first
+ * iterate there; everywhere else (nonlinear elements, iterative solves) CVODE's own test runs.
+ * CVODE then measures the correction itself for its error test (acnrm). */
+typedef struct nls_ctx {
+  SUNNonlinSolConvTestFn ctest; /* CVODE's own convergence test and its data */
+  void *ctest_data;
+  const fci_sys *sys;
+} nls_ctx;
+
+static int conv_test(SUNNonlinearSolver S, N_Vector ycor, N_Vector del, sunrealtype tol,
+                     N_Vector ewt, void *data)
+{
+  const nls_ctx *C = data;
+  if (C->sys->aff_able && !C->sys->ldirty && !C->sys->kr) return SUN_NLS_SUCCESS;
+  return C->ctest(S, ycor, del, tol, ewt, C->ctest_data);
+}
+
 static void on_cvode_error(int code, const char *module, const char *fn, char *msg, void *ud)
 {
   fci_run *R = ud;
@@ -195,6 +219,8 @@ typedef struct cv {
   N_Vector qat;         /* quadrature absolute tolerances */
   SUNLinearSolver ls;
   ls_ctx lsc;
+  SUNNonlinearSolver nls;
+  nls_ctx nlc;
 } cv;
 
 static void cv_free(cv *c, fci_run *R)
@@ -204,6 +230,7 @@ static void cv_free(cv *c, fci_run *R)
   R->atol = R->wscale = NULL;
   if (c->mem) CVodeFree(&c->mem);
   if (c->ls) SUNLinSolFree(c->ls);
+  if (c->nls) SUNNonlinSolFree(c->nls);
   N_Vector v[] = {c->y, c->yq, c->ytmp, c->ewt, c->ele, c->qat};
   for (size_t i = 0; i < sizeof v / sizeof v[0]; i++) if (v[i]) N_VDestroy(v[i]);
   fc_free(c->qacc);
@@ -293,6 +320,17 @@ static int set_weights(fci_run *R, int n)
   return 0;
 }
 
+/* CVODE's Newton solver with the convergence test of nls_ctx wrapped around CVODE's own (which
+ * CVodeSetNonlinearSolver installs, and nothing re-installs later). */
+static int set_newton(cv *c, fci_run *R)
+{
+  if (!(c->nls = SUNNonlinSol_Newton(c->y, c->ctx)) || CVodeSetNonlinearSolver(c->mem, c->nls))
+    return -1;
+  SUNNonlinearSolverContent_Newton nc = c->nls->content;
+  c->nlc = (nls_ctx){.ctest = nc->CTest, .ctest_data = nc->ctest_data, .sys = R->sys};
+  return c->nlc.ctest ? SUNNonlinSolSetConvTestFn(c->nls, conv_test, &c->nlc) : -1;
+}
+
 static int cv_init(cv *c, fci_run *R, fc_error *err)
 {
   fci_sys *s = R->sys;
@@ -324,7 +362,7 @@ static int cv_init(cv *c, fci_run *R, fc_error *err)
       CVodeWFtolerances(c->mem, ewt_fn) || CVodeSetErrHandlerFn(c->mem, on_cvode_error, R) ||
       CVodeSetLinearSolver(c->mem, c->ls, NULL) ||
       CVodeSetMaxNumSteps(c->mem, 1000000) ||
-      CVodeSetNonlinConvCoef(c->mem, NLS_COEF) ||
+      CVodeSetNonlinConvCoef(c->mem, NLS_COEF) || set_newton(c, R) ||
       (o->max_step > 0 && CVodeSetMaxStep(c->mem, o->max_step)) ||
       (R->nq && (CVodeQuadInit(c->mem, f_quad, c->yq) ||
                  set_qatol(c, R) || CVodeSetQuadErrCon(c->mem, SUNTRUE))) ||

@@ -182,6 +182,45 @@ static void sine_rc_matches_transfer_function(void **state)
   }
 }
 
+/* A linear network takes one Newton iteration per step attempt (src/sim.c, conv_test: the
+ * corrector equation is linear and solved exactly), and keeps the analytic answer above at
+ * the default tolerance; a nonlinear one (a gas bubble) still runs CVODE's own convergence
+ * test, which needs a second iterate. */
+static void linear_network_takes_one_newton_iteration_per_step(void **state)
+{
+  (void)state;
+  const double M = 500, A = 1000, w = 2 * PI * 2, tau = 0.1, wt = w * tau;
+  const char *wave = "{\"shape\":\"sine\",\"mean\":\"500 Pa\",\"amplitude\":\"10 mbar\","
+                     "\"frequency\":\"2 Hz\"}";
+  const char *store[] = {"\"compliance\":1e-13", "\"gas_volume\":\"1 uL\""};
+  for (int nl = 0; nl < 2; nl++) {
+    char els[1024], json[JSON_MAX];
+    snprintf(els, sizeof els, sine_forms[0], wave);
+    snprintf(json, sizeof json,
+             "{\"format\":\"ferrocirc-network/1\",\"elements\":[%s"
+             "{\"id\":\"C\",\"type\":\"chamber\",\"node\":\"c\",%s}],"
+             "\"simulation\":{\"duration\":\"2 s\",\"sample_interval\":\"5 ms\"}}", els, store[nl]);
+    run R;
+    run_json(&R, json);
+    assert_int_equal(R.rc_sim, FC_OK);
+    const fc_sim_stats *st = &R.res->stats;
+    long attempts = st->steps + st->err_test_fails + st->conv_fails;
+    print_message("%s: %ld steps, %ld attempts, %ld Newton iterations\n", nl ? "gas bubble" : "linear",
+                  st->steps, attempts, st->nonlin_iters);
+    if (!nl) {
+      assert_true(st->nonlin_iters <= attempts);
+      for (size_t k = 0; k < R.r.n; k++) {
+        double t = R.r.t[k], e = exp(-t / tau);
+        double want = M * (1 - e) + A / (1 + wt * wt) * (sin(w * t) - wt * cos(w * t) + wt * e);
+        CHECK_CLOSE(rec_p(&R.r, R.net, k, "c"), want, 1e-4, A, "sine RC p(t) at rel_tol 1e-6");
+      }
+    } else {
+      assert_true(st->nonlin_iters > attempts);
+    }
+    run_free(&R);
+  }
+}
+
 /* ---- R-L-C ---- */
 
 /* Tube of C4: rho = 998.2 kg/m^3, r = 0.25 mm, l = 1 m (mu = 1 mPa s), with "inertance": true,
@@ -283,6 +322,7 @@ int main(void)
     cmocka_unit_test(rc_charge_follows_exponential),
     cmocka_unit_test(rc_of_r7_and_c3_has_tau_c5),
     cmocka_unit_test(sine_rc_matches_transfer_function),
+    cmocka_unit_test(linear_network_takes_one_newton_iteration_per_step),
     cmocka_unit_test(rlc_tube_matches_damped_response),
     cmocka_unit_test(algebraic_network_follows_sources_instantly),
   };

@@ -105,6 +105,13 @@ def run_fc(binary, net, probe, tol, wd, ref=False):
     # abs_tol [Pa] = tol x 1 Pa; abs_tol_volume = tol x 1 nL (about one chamber's volume per
     # beat): the default 1 fL would hold the volumes to ~1e-7 whatever rel_tol says
     d["simulation"].update(rel_tol=tol, abs_tol=tol * 1.0, abs_tol_volume=tol * 1e-12)
+    # statistics for the probed node and the tracked elements only, as ngspice .saves only the
+    # probed vectors (node pressure extremes still cover every node)
+    pr = json.load(open(probe))
+    rep = d.setdefault("report", {})
+    rep.update(statistics="tracked", nodes=[pr["probe_node"]])
+    if pr["volume_elem"] not in pr["valves"]:
+        rep["elements"] = sorted(set(rep.get("elements", [])) | {pr["volume_elem"]})
     if ref:
         d["simulation"]["abs_tol_volume"] = 1e-24
     path = os.path.join(wd, "fc-net.json")
