@@ -118,6 +118,7 @@ typedef struct fci_sys {
    * states and every compliance is constant, A(gamma) = aa0 + gamma aa1 exactly until a mode
    * switches, so a set-up needs one pass over the nonzeros instead of stamping every element. */
   int aff_able;             /* the network qualifies, in its current modes */
+  int all_const;            /* every store has a constant compliance (Csum, Csum2 = Cconst) */
   int aff_ok;               /* aa0 and aa1 hold the current modes' matrices */
   double *aa0, *aa1;        /* A.nnz each, allocated on first use */
   fci_krylov *kr;           /* iterative Newton solves; NULL: direct (KLU) */

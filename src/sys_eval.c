@@ -201,8 +201,11 @@ int fci_sys_eval(fci_sys *s, double t, const double *x)
   s->cached = 0;
   if (s->ldirty) fci_sys_linear_refresh(s);
   fixed_pressures(s, t);
-  for (int k = 0; k < s->ns; k++)
-    if (store_pressure(s, t, k, x[k])) return 2;
+  if (s->all_const) /* V = C p exactly; Csum and dCsum were set with Cconst */
+    for (int k = 0; k < s->ns; k++) s->p[s->xnode[k]] = x[k] / s->Cconst[k];
+  else
+    for (int k = 0; k < s->ns; k++)
+      if (store_pressure(s, t, k, x[k])) return 2;
   flows(s, t, x);
   if (s->nz > 0 && solve_alg(s, t, x)) return 1;
   link_flows(s);

@@ -73,8 +73,14 @@ void fci_sys_linear_refresh(fci_sys *s)
     }
     s->Cconst[k] = C > 0 ? C : 0;
   }
-  s->aff_able = s->ngen == 0 && s->nstate_el == 0 && !s->nonlinear;
-  for (int k = 0; k < s->ns && s->aff_able; k++) s->aff_able = s->Cconst[k] > 0;
+  s->all_const = 1;
+  for (int k = 0; k < s->ns && s->all_const; k++) s->all_const = s->Cconst[k] > 0;
+  if (s->all_const) /* evaluations then only write pressures (sys_eval.c) */
+    for (int k = 0; k < s->ns; k++) {
+      s->Csum[k] = s->Csum2[k] = s->Cconst[k];
+      s->dCsum[k] = s->dCsum2[k] = 0;
+    }
+  s->aff_able = s->ngen == 0 && s->nstate_el == 0 && !s->nonlinear && s->all_const;
   s->aff_ok = 0;
   s->ldirty = 0;
 }
