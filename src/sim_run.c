@@ -56,6 +56,38 @@ static int alloc_result(fci_run *R)
   return FC_OK;
 }
 
+/* "tracked" statistics: an interior point of a step needs every node pressure (the extremes),
+ * the flows of the reported elements and the inflows of the reported stores, and no other
+ * flow, so it evaluates only the FLOW elements at those stores besides the reported ones
+ * (fci_sys_eval_some; on a tree with one probed chamber about a tenth of the network). */
+static int scope_points(fci_run *R)
+{
+  const fc_net *net = R->net;
+  const fci_sys *s = R->sys;
+  int E = net->nElem, N = net->nNode, ok = 1;
+  R->npt_el = -1;
+  if (R->stats_all || s->nz > 0 || s->nlink > 0) return FC_OK;
+  unsigned char *nd = fc_calloc((size_t)N, 1), *el = fc_calloc((size_t)E, 1);
+  if (!nd || !el || !NEW(R->pt_el, E) || !NEW(R->pt_nd, N)) ok = -1;
+  for (int j = 0; ok > 0 && j < R->nst_store; j++) nd[s->xnode[R->st_store[j]]] = 1;
+  for (int l = 0; ok > 0 && l < R->next_el; l++) el[R->ext_el[l]] = 1;
+  for (int l = 0; ok > 0 && l < R->nst_el; l++) el[R->st_el[l]] = 1;
+  int n = 0;
+  for (int i = 0; ok > 0 && i < E; i++) {
+    const fc_elem *e = &net->elem[i];
+    int near = e->nTerm == 2 && (nd[e->node[0]] || nd[e->node[1]]);
+    if (e->role == FC_ROLE_FLOW && (el[i] || near)) R->pt_el[n++] = i;
+    else if (el[i]) ok = 0; /* a reported element whose flow is not its own law: evaluate all */
+  }
+  if (ok > 0) {
+    R->npt_el = n;
+    for (int v = 0; v < N; v++) if (nd[v]) R->pt_nd[R->npt_nd++] = v;
+  }
+  fc_free(nd);
+  fc_free(el);
+  return ok < 0 ? FC_ENOMEM : FC_OK;
+}
+
 /* The lists of sim_run.h's report scope, after qoff and qpn are known. */
 static int scope_init(fci_run *R)
 {
@@ -81,7 +113,7 @@ static int scope_init(fci_run *R)
   }
   for (int n = 0; n < N; n++) if (R->rep_node[n] && R->qpn[n] < 0) R->st_node[R->nst_node++] = n;
   for (int k = 0; k < s->ns; k++) if (R->rep_node[s->xnode[k]]) R->st_store[R->nst_store++] = k;
-  return FC_OK;
+  return scope_points(R);
 }
 
 int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err)
@@ -140,7 +172,7 @@ void fci_run_free(fci_run *R)
   fc_free(R->rootsfound); fc_free(R->sign_el); fc_free(R->sign_side); fc_free(R->x0); fc_free(R->v0); fc_free(R->vq_cycle);
   fc_free(R->qpn); fc_free(R->qmag); fc_free(R->qtmp);
   fc_free(R->rep_el); fc_free(R->rep_node); fc_free(R->st_el); fc_free(R->ext_el);
-  fc_free(R->st_node); fc_free(R->st_store);
+  fc_free(R->st_node); fc_free(R->st_store); fc_free(R->pt_el); fc_free(R->pt_nd);
   fci_steps_free(&R->steps);
   memset(R, 0, sizeof *R);
 }
@@ -182,9 +214,13 @@ static int emit(fci_run *R, double t, fc_error *err)
   return FC_OK;
 }
 
-static int eval_or_fail(fci_run *R, double t, const double *x, fc_error *err)
+/* some = 1: the interior-point evaluation of "tracked" statistics (scope_points), where possible */
+static int eval_or_fail_at(fci_run *R, double t, const double *x, int some, fc_error *err)
 {
-  int e = fci_sys_eval(R->sys, t, R->sys->nx ? x : NULL);
+  const double *xx = R->sys->nx ? x : NULL;
+  int e = some && R->npt_el >= 0
+        ? fci_sys_eval_some(R->sys, t, xx, R->pt_el, R->npt_el, R->pt_nd, R->npt_nd)
+        : fci_sys_eval(R->sys, t, xx);
   if (e == 2)
     return fc_fail(err, FC_ESOLVE, NULL, "a compliance's stored volume has no pressure at t = "
                    "%.9g s (a gas bubble compressed beyond its range?)", t);
@@ -193,6 +229,11 @@ static int eval_or_fail(fci_run *R, double t, const double *x, fc_error *err)
                    "singular at t = %.9g s (a part of the network is cut off by closed valves "
                    "with zero leak?)", t);
   return FC_OK;
+}
+
+static int eval_or_fail(fci_run *R, double t, const double *x, fc_error *err)
+{
+  return eval_or_fail_at(R, t, x, 0, err);
 }
 
 /* After an evaluation at a step end: the side of each sign root's flow, where it is not 0. */
@@ -274,7 +315,7 @@ int fci_run_sample(fci_run *R, double ts, const double *x, fc_error *err)
 
 int fci_run_step_point(fci_run *R, int j, double t, const double *x, fc_error *err)
 {
-  int rc = eval_or_fail(R, t, x, err);
+  int rc = eval_or_fail_at(R, t, x, 1, err);
   if (rc) return rc;
   fci_steps_point(R, j);
   fci_cycles_extremes(R);

@@ -71,6 +71,9 @@ typedef struct fci_run {
   int *st_el, nst_el;        /* reported two-terminal elements integrated from the dense output */
   int *ext_el, next_el;      /* reported two-terminal elements: flow and dp extremes */
   int *st_node, nst_node;    /* reported nodes integrated from the dense output (not imposed) */
+  int *pt_el, npt_el;        /* "tracked": the FLOW elements an interior point evaluates (the
+                                reported ones and every one at a reported store), */
+  int *pt_nd, npt_nd;        /* the nodes whose inflow it needs; npt_el = -1: evaluate all */
   int *st_store, nst_store;  /* store indices of reported nodes */
 } fci_run;
 

@@ -66,6 +66,7 @@ typedef struct fci_sys {
   int *fix_order;           /* FIX and LINK elements in evaluation order (nfix) */
   int *fix_node;            /* the node each of them fixes */
   int nfix;
+  int nlink;                /* of them ideal pressure sources (LINK) */
   int *store_ptr, *store_el;/* per STORE node k: its store elements store_el[store_ptr[k]..] */
   int *xnode;               /* per store index k: node */
   int *znode;               /* per alg index i: node */
@@ -105,6 +106,7 @@ typedef struct fci_sys {
   int nlin, *lin_el, *lin_a, *lin_b; /* FLOW elements linear in their modes, their nodes */
   double *lin_k;            /* their coefficients, 3 each: q = k0 + k1 p(from) + k2 p(to) */
   int ngen, *gen_el;        /* the other FLOW elements, evaluated through xFlow */
+  int *lin_of;              /* per element: its index in the lin_ arrays, -1 if not linear */
   /* Index lists, so that the passes made at every evaluation visit only the elements they
    * concern instead of loading every element's struct (one cache line each, on a network
    * of 10^5 elements several MB per pass). Roles, states and roots never change. */
@@ -141,6 +143,14 @@ int fci_sys_eval(fci_sys *s, double t, const double *x);
  * call it again to return. Returns 0 and does nothing where an evaluation also writes the
  * shared partials dqa, dqb, dqx (elements evaluated through xFlow), 1 if it swapped. */
 int fci_sys_swap(fci_sys *s);
+/* A partial evaluation, for the interior points of a step when only some flows are reported:
+ * every node pressure, the flows of the FLOW elements el[0..nel-1], and the inflows of the
+ * nodes nd[0..nnd-1] (the caller lists every FLOW element at those nodes). Only where no node
+ * is algebraic and no element is an ideal pressure source (their pressures and flows need the
+ * whole balance); returns -1 without evaluating otherwise, 2 as fci_sys_eval. Leaves nothing
+ * cached: the next fci_sys_eval evaluates afresh. */
+int fci_sys_eval_some(fci_sys *s, double t, const double *x, const int *el, int nel,
+                      const int *nd, int nnd);
 /* After fci_sys_eval: f = dx/dt into xdot (length nx). */
 int fci_sys_rhs_from_eval(fci_sys *s, double t, const double *x, double *xdot);
 /* Newton matrix: assemble and factor at (t, x, gamma); solve in place on r (length nx). */

@@ -43,6 +43,7 @@ static int resolve_fixed(fci_sys *s, int *fixer, fc_error *err)
       s->kind[d] = FCI_NODE_FIXED;
       s->fix_node[s->nfix] = d;
       s->fix_order[s->nfix++] = i;
+      s->nlink++;
       progress = 1;
     }
   }

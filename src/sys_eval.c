@@ -21,9 +21,33 @@ static void fixed_pressures(fci_sys *s, double t)
   }
 }
 
+/* Flow of FLOW element i (linear from its coefficients, else through xFlow), into q and the
+ * inflows of its nodes. */
+static void flow_one(fci_sys *s, double t, const double *x, int i)
+{
+  int j = s->lin_of[i];
+  if (j >= 0) {
+    const double *k = s->lin_k + 3 * j;
+    double v = k[0] + k[1] * s->p[s->lin_a[j]] + k[2] * s->p[s->lin_b[j]];
+    s->q[i] = v;
+    s->qin[s->lin_a[j]] -= v;
+    s->qin[s->lin_b[j]] += v;
+    return;
+  }
+  const fc_elem *e = &s->net->elem[i];
+  double pp[2] = {s->p[e->node[0]], s->p[e->node[1]]};
+  fci_flow f = {0};
+  e->type->xFlow(e, t, pp, e->nState ? x + e->iState : NULL, &f);
+  s->q[i] = f.q;
+  s->dqa[i] = f.dq_dpa;
+  s->dqb[i] = f.dq_dpb;
+  memcpy(s->dqx + FCI_MAX_OWN * i, f.dq_dx, sizeof f.dq_dx);
+  s->qin[e->node[0]] -= f.q;
+  s->qin[e->node[1]] += f.q;
+}
+
 static void flows(fci_sys *s, double t, const double *x)
 {
-  const fc_net *net = s->net;
   const double *p = s->p, *k = s->lin_k;
   double *q = s->q, *qin = s->qin;
   memset(qin, 0, (size_t)s->nN * sizeof *qin);
@@ -34,19 +58,7 @@ static void flows(fci_sys *s, double t, const double *x)
     qin[a] -= v;
     qin[b] += v;
   }
-  for (int g = 0; g < s->ngen; g++) {
-    int i = s->gen_el[g];
-    const fc_elem *e = &net->elem[i];
-    double pp[2] = {s->p[e->node[0]], s->p[e->node[1]]};
-    fci_flow f = {0};
-    e->type->xFlow(e, t, pp, e->nState ? x + e->iState : NULL, &f);
-    s->q[i] = f.q;
-    s->dqa[i] = f.dq_dpa;
-    s->dqb[i] = f.dq_dpb;
-    memcpy(s->dqx + FCI_MAX_OWN * i, f.dq_dx, sizeof f.dq_dx);
-    s->qin[e->node[0]] -= f.q;
-    s->qin[e->node[1]] += f.q;
-  }
+  for (int g = 0; g < s->ngen; g++) flow_one(s, t, x, s->gen_el[g]);
 }
 
 /* After an update zbuf of the ALG pressures: q += dq/dpa dpa + dq/dpb dpb, inflows likewise. */
@@ -191,6 +203,31 @@ static int store_pressure(fci_sys *s, double t, int k, double V)
   return 1;
 }
 
+/* Imposed and stored pressures (not the algebraic ones); 1 if a store has no pressure. */
+static int pressures(fci_sys *s, double t, const double *x)
+{
+  fixed_pressures(s, t);
+  if (s->all_const) { /* V = C p exactly; Csum and dCsum were set with Cconst */
+    for (int k = 0; k < s->ns; k++) s->p[s->xnode[k]] = x[k] / s->Cconst[k];
+    return 0;
+  }
+  for (int k = 0; k < s->ns; k++)
+    if (store_pressure(s, t, k, x[k])) return 1;
+  return 0;
+}
+
+int fci_sys_eval_some(fci_sys *s, double t, const double *x, const int *el, int nel,
+                      const int *nd, int nnd)
+{
+  if (s->nz > 0 || s->nlink > 0) return -1;
+  s->cached = 0;
+  if (s->ldirty) fci_sys_linear_refresh(s);
+  if (pressures(s, t, x)) return 2;
+  for (int j = 0; j < nnd; j++) s->qin[nd[j]] = 0;
+  for (int j = 0; j < nel; j++) flow_one(s, t, x, el[j]);
+  return 0;
+}
+
 int fci_sys_eval(fci_sys *s, double t, const double *x)
 {
   s->nEval++;
@@ -200,12 +237,7 @@ int fci_sys_eval(fci_sys *s, double t, const double *x)
   }
   s->cached = 0;
   if (s->ldirty) fci_sys_linear_refresh(s);
-  fixed_pressures(s, t);
-  if (s->all_const) /* V = C p exactly; Csum and dCsum were set with Cconst */
-    for (int k = 0; k < s->ns; k++) s->p[s->xnode[k]] = x[k] / s->Cconst[k];
-  else
-    for (int k = 0; k < s->ns; k++)
-      if (store_pressure(s, t, k, x[k])) return 2;
+  if (pressures(s, t, x)) return 2;
   flows(s, t, x);
   if (s->nz > 0 && solve_alg(s, t, x)) return 1;
   link_flows(s);

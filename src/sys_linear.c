@@ -20,7 +20,7 @@ int fci_sys_linear_build(fci_sys *s)
   if (!NEW(s->ea, s->nE) || !NEW(s->eb, s->nE) || !NEW(s->lin_el, s->nE) ||
       !NEW(s->lin_a, s->nE) || !NEW(s->lin_b, s->nE) || !NEW(s->lin_k, 3 * (size_t)s->nE) ||
       !NEW(s->gen_el, s->nE) || !NEW(s->Cconst, s->ns) || !NEW(s->flow_el, s->nE) ||
-      !NEW(s->state_el, s->nE) || !NEW(s->root_el, s->nE))
+      !NEW(s->state_el, s->nE) || !NEW(s->root_el, s->nE) || !NEW(s->lin_of, s->nE))
     return FC_ENOMEM;
   s->nflow = s->nstate_el = s->nroot_el = 0;
   for (int i = 0; i < s->nE; i++) {
@@ -40,6 +40,7 @@ void fci_sys_linear_free(fci_sys *s)
   fc_free(s->ea); fc_free(s->eb); fc_free(s->lin_el); fc_free(s->lin_a); fc_free(s->lin_b);
   fc_free(s->lin_k); fc_free(s->gen_el); fc_free(s->Cconst); fc_free(s->flow_el);
   fc_free(s->state_el); fc_free(s->root_el); fc_free(s->aa0); fc_free(s->aa1);
+  fc_free(s->lin_of);
 }
 
 void fci_sys_linear_refresh(fci_sys *s)
@@ -50,11 +51,13 @@ void fci_sys_linear_refresh(fci_sys *s)
     int i = s->flow_el[f];
     const fc_elem *e = &net->elem[i];
     double k[3];
+    s->lin_of[i] = -1;
     if (e->nState || !e->type->xLinear || !e->type->xLinear(e, k)) {
       s->gen_el[s->ngen++] = i;
       continue;
     }
     int j = s->nlin++;
+    s->lin_of[i] = j;
     s->lin_el[j] = i;
     s->lin_a[j] = e->node[0];
     s->lin_b[j] = e->node[1];
