@@ -478,7 +478,8 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
                    "threshold", t, blame(c, R), flag, CVodeGetReturnFlagName(flag), R->cv_msg);
       break;
     }
-    if (R->nq && CVodeGetQuad(c->mem, &t, c->yq)) { rc = FC_ESOLVE; break; }
+    double tq; /* CVodeGetQuad reports its own time, tn: keep t the stop time set above */
+    if (R->nq && CVodeGetQuad(c->mem, &tq, c->yq)) { rc = FC_ESOLVE; break; }
     for (int k = 0; k < R->nq; k++) c->qtot[k] = c->qacc[k] + NV_Ith_S(c->yq, k);
     double ts;
     int want = R->sink && R->sink->xSample; /* no sink: samples cost nothing */
