@@ -181,6 +181,19 @@ int fci_sys_build(fc_net *net, fci_sys **out, fc_error *err)
     goto fail;
   }
   s->gdirty = 1;
+  /* Every row of the Newton matrix a compliant node's volume balance (no algebraic node, no own
+   * state): the rows share one unit and each column's largest entry is its diagonal
+   * (C + gamma times the node's conductances), so partial pivoting picks the diagonal with or
+   * without KLU's row scaling, which costs a pass over the matrix at every refactorisation
+   * (6 % of a tree's run, docs/performance.md). Where flow balances or inertance rows are mixed
+   * in, their units differ and the scaling stays (KLU User Guide: Common.scale, default 2). */
+  if (s->nz == 0 && s->no == 0 && s->nx > 0) {
+    if (fci_klu_analyze(&s->ak, &s->A)) {
+      rc = fc_fail(err, FC_ESOLVE, NULL, "symbolic analysis of the Newton matrix failed");
+      goto fail;
+    }
+    s->ak.common.scale = 0;
+  }
   *out = s;
   return FC_OK;
 fail:
