@@ -167,7 +167,7 @@ int fci_sys_ksetup(fci_sys *s, double t, const double *x, double gamma);
 int fci_sys_linear_choice(fci_sys *s, int choice);
 int fci_krylov_build(fci_sys *s);
 void fci_krylov_free(fci_krylov *K);
-int fci_krylov_setup(fci_sys *s, double gamma); /* a0 holds A(0), A.val holds A(1) */
+int fci_krylov_setup(fci_sys *s, double gamma); /* a0, a1 hold A(0), A(1) - A(0) */
 int fci_krylov_gamma(fci_sys *s, double gamma);
 int fci_krylov_solve(fci_sys *s, double *r, const double *w, double tol, int *iters);
 /* Event functions (length nroot) after fci_sys_eval. */

@@ -321,8 +321,20 @@ static void stamp_aug(fci_sys *s, double t, const double *x, double gamma, int s
   }
 }
 
-/* A(gamma) from the two stamped parts (sys.h: aff_able): A(0), then A(1) - A(0). The sum
- * differs from a direct stamp at gamma only by rounding. */
+/* The matrix as a0 + gamma a1: a0 = A(0), a1 = A(1) - A(0), each from one stamp (exact for
+ * the Jacobian at (t, x); for every gamma while the network is affine, sys.h aff_able). */
+static void stamp_parts(fci_sys *s, double t, const double *x, double *a0, double *a1)
+{
+  size_t nnz = (size_t)s->A.nnz;
+  const double *A = s->A.val;
+  stamp_aug(s, t, x, 0.0, 0);
+  memcpy(a0, A, nnz * sizeof *A);
+  stamp_aug(s, t, x, 1.0, 0);
+  for (size_t p = 0; p < nnz; p++) a1[p] = A[p] - a0[p];
+}
+
+/* A(gamma) from the two parts, stamped once per mode. The sum differs from a direct stamp at
+ * gamma only by rounding. */
 static int stamp_affine(fci_sys *s, double t, const double *x, double gamma)
 {
   size_t nnz = (size_t)s->A.nnz;
@@ -331,10 +343,7 @@ static int stamp_affine(fci_sys *s, double t, const double *x, double gamma)
     if ((!s->aa0 && !(s->aa0 = fc_calloc(nnz, sizeof *s->aa0))) ||
         (!s->aa1 && !(s->aa1 = fc_calloc(nnz, sizeof *s->aa1))))
       return -1;
-    stamp_aug(s, t, x, 0.0, 0);
-    memcpy(s->aa0, A, nnz * sizeof *A);
-    stamp_aug(s, t, x, 1.0, 0);
-    for (size_t p = 0; p < nnz; p++) s->aa1[p] = A[p] - s->aa0[p];
+    stamp_parts(s, t, x, s->aa0, s->aa1);
     s->aff_ok = 1;
   }
   for (size_t p = 0; p < nnz; p++) A[p] = s->aa0[p] + gamma * s->aa1[p];
@@ -357,9 +366,7 @@ int fci_sys_ksetup(fci_sys *s, double t, const double *x, double gamma)
   if (s->nx == 0) return 0;
   if (fci_sys_eval(s, t, x)) return 1;
   memcpy(s->Cpre, s->Csum, (size_t)s->ns * sizeof *s->Cpre);
-  stamp_aug(s, t, x, 0.0, 0);
-  memcpy(s->kr->a0, s->A.val, (size_t)s->A.nnz * sizeof *s->A.val);
-  stamp_aug(s, t, x, 1.0, 0);
+  stamp_parts(s, t, x, s->kr->a0, s->kr->a1);
   return fci_krylov_setup(s, gamma);
 }
 

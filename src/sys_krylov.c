@@ -128,10 +128,7 @@ static void matvec(const fci_sys *s, const double *av, const double *x, double *
 
 int fci_krylov_setup(fci_sys *s, double gamma)
 {
-  fci_krylov *K = s->kr;
-  const int nnz = s->A.nnz;
-  for (int p = 0; p < nnz; p++) K->a1[p] = s->A.val[p] - K->a0[p];
-  K->gamma = 0;
+  s->kr->gamma = 0; /* a new Jacobian: ILU(0) and the products are stale at any gamma */
   return fci_krylov_gamma(s, gamma);
 }
 

@@ -112,6 +112,17 @@ static inline void run_json(run *R, const char *json)
     fprintf(stderr, "run: %s: %s (%s)\n", R->err.path, R->err.msg, fc_error_name(R->rc_sim));
 }
 
+/* Largest |a[k] - b[k]| relative to max |b[k]|, k < n. */
+static inline double rel_diff(int n, const double *a, const double *b)
+{
+  double d = 0, m = 0;
+  for (int k = 0; k < n; k++) {
+    if (fabs(a[k] - b[k]) > d) d = fabs(a[k] - b[k]);
+    if (fabs(b[k]) > m) m = fabs(b[k]);
+  }
+  return d / m;
+}
+
 static inline void run_free(run *R)
 {
   fc_sim_result_free(R->res);

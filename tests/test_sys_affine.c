@@ -44,17 +44,6 @@ static void both(fci_sys *s, const double *x, double gamma, double *fast, double
   s->aff_able = able;
 }
 
-/* Largest |a - b| relative to max |b|. */
-static double rel_diff(int n, const double *a, const double *b)
-{
-  double d = 0, m = 0;
-  for (int k = 0; k < n; k++) {
-    if (fabs(a[k] - b[k]) > d) d = fabs(a[k] - b[k]);
-    if (fabs(b[k]) > m) m = fabs(b[k]);
-  }
-  return d / m;
-}
-
 static void affine_matrix_equals_the_stamp_in_every_mode(void **state)
 {
   (void)state;

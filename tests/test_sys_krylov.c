@@ -59,17 +59,6 @@ static fc_net *mesh(void)
 
 static double uniform(uint64_t *g) { return (double)(test_rng_next(g) >> 11) * 0x1p-53; }
 
-/* Largest |a - b| relative to max |b|. */
-static double rel_diff(int n, const double *a, const double *b)
-{
-  double d = 0, s = 0;
-  for (int k = 0; k < n; k++) {
-    if (fabs(a[k] - b[k]) > d) d = fabs(a[k] - b[k]);
-    if (fabs(b[k]) > s) s = fabs(b[k]);
-  }
-  return d / s;
-}
-
 static void gmres_matches_klu_on_every_row_kind(void **state)
 {
   (void)state;
