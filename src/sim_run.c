@@ -219,8 +219,8 @@ static int eval_or_fail_at(fci_run *R, double t, const double *x, int some, fc_e
 {
   const double *xx = R->sys->nx ? x : NULL;
   int e = some && R->npt_el >= 0
-        ? fci_sys_eval_some(R->sys, t, xx, R->pt_el, R->npt_el, R->pt_nd, R->npt_nd)
-        : fci_sys_eval(R->sys, t, xx);
+        ? fci_sys_eval_some(R->sys, t, xx, R->pt_el, R->npt_el, R->pt_nd, R->npt_nd) : -1;
+  if (e < 0) e = fci_sys_eval(R->sys, t, xx); /* no partial evaluation here: the whole one */
   if (e == 2)
     return fc_fail(err, FC_ESOLVE, NULL, "a compliance's stored volume has no pressure at t = "
                    "%.9g s (a gas bubble compressed beyond its range?)", t);
