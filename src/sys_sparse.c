@@ -78,9 +78,15 @@ int fci_klu_factor(fci_klu *k, const fci_csc *c, int refactor)
 {
   if (fci_klu_analyze(k, c)) return FC_ESOLVE;
   if (refactor && k->num) {
-    if (klu_refactor(c->colptr, c->rowind, c->val, k->sym, k->num, &k->common) &&
-        klu_rcond(k->sym, k->num, &k->common) && k->common.rcond > 1e-13)
-      return FC_OK;
+    /* Without row scaling (scale 0), KLU still checks the matrix for bad and duplicate indices
+     * at every refactorisation; the pattern is ours, fixed, and was checked by the first
+     * klu_factor, so refactorisations skip it (scale < 0: "no scaling, do not compute Rs, and
+     * do not check input matrix", KLU source, klu_scale.c). */
+    int scale = k->common.scale;
+    if (scale == 0) k->common.scale = -1;
+    int ok = klu_refactor(c->colptr, c->rowind, c->val, k->sym, k->num, &k->common);
+    k->common.scale = scale;
+    if (ok && klu_rcond(k->sym, k->num, &k->common) && k->common.rcond > 1e-13) return FC_OK;
     /* Pivots chosen for earlier values went bad: factor afresh. */
   }
   if (k->num) klu_free_numeric(&k->num, &k->common);
