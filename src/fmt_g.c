@@ -99,9 +99,68 @@ int fci_fmt_layout(char *buf, int neg, uint64_t c, int P, int X)
   return (int)(o - buf);
 }
 
+/* "00", "01", ..., "99": two digits per division by 100 instead of one per division by 10. */
+static const char pairs[201] =
+    "00010203040506070809101112131415161718192021222324252627282930313233343536373839"
+    "40414243444546474849505152535455565758596061626364656667686970717273747576777879"
+    "8081828384858687888990919293949596979899";
+
+/* fci_fmt_layout for P = 9, the CSV's every number: digits by pairs, and the fixed and
+ * exponent forms copied in blocks. Same bytes (tests/test_fmt.c). */
+static int layout9(char *buf, int neg, uint32_t r, int X)
+{
+  char d[12];
+  uint32_t hi = r / 100000000u, lo = r % 100000000u, a = lo / 10000u, b = lo % 10000u;
+  d[0] = (char)('0' + hi);
+  memcpy(d + 1, pairs + 2 * (a / 100u), 2);
+  memcpy(d + 3, pairs + 2 * (a % 100u), 2);
+  memcpy(d + 5, pairs + 2 * (b / 100u), 2);
+  memcpy(d + 7, pairs + 2 * (b % 100u), 2);
+  int nd = lo == 0 ? 1 : b == 0 ? 5 : 9;
+  while (nd > 1 && d[nd - 1] == '0') nd--;
+  char *o = buf;
+  *o = '-';
+  o += neg;
+  if (X < -4 || X >= 9) {
+    *o++ = d[0];
+    if (nd > 1) {
+      *o++ = '.';
+      memcpy(o, d + 1, (size_t)nd - 1);
+      o += nd - 1;
+    }
+    *o++ = 'e';
+    *o++ = X < 0 ? '-' : '+';
+    int ax = X < 0 ? -X : X;
+    if (ax >= 100) { *o++ = (char)('0' + ax / 100); ax %= 100; }
+    memcpy(o, pairs + 2 * ax, 2);
+    o += 2;
+  } else if (X >= 0) {
+    memcpy(o, d, (size_t)X + 1);
+    o += X + 1;
+    if (nd > X + 1) {
+      *o++ = '.';
+      memcpy(o, d + X + 1, (size_t)(nd - X - 1));
+      o += nd - X - 1;
+    }
+  } else {
+    memcpy(o, "0.0000", (size_t)(1 - X)); /* "0." and -X - 1 zeros */
+    o += 1 - X;
+    memcpy(o, d, (size_t)nd);
+    o += nd;
+  }
+  *o = '\0';
+  return (int)(o - buf);
+}
+
 int fci_fmt_g9(char *buf, double v)
 {
-  if (!isfinite(v) || v == 0) return slow(buf, v);
+  if (v == 0) { /* "0" or "-0", as printf writes them */
+    int neg = signbit(v) != 0;
+    memcpy(buf, "-0", 3);
+    if (!neg) memcpy(buf, "0", 2);
+    return 1 + neg;
+  }
+  if (!isfinite(v)) return slow(buf, v);
   int neg = signbit(v) != 0, e2;
   double d = fabs(v), s;
   uint64_t bits;
@@ -120,5 +179,5 @@ int fci_fmt_g9(char *buf, double v)
   if (fabs(frac - 0.5) < 1e-6) return slow(buf, v);
   uint32_t r = fl + (frac > 0.5);
   if (r >= 1000000000u) { r = 100000000u; X++; }
-  return fci_fmt_layout(buf, neg, r, 9, X);
+  return layout9(buf, neg, r, X);
 }
