@@ -171,6 +171,14 @@ static int simulate(fc_net *net, const fc_units *u, const run_args *a, fc_error 
     io.next_show = wall() + 0.5; /* short runs print nothing */
     fc_sim_sink sink = {&io, io.sink ? sample : NULL, on_event, show ? progress : NULL};
     rc = fc_sim_run(net, &sink, &r, err);
+    /* the writer thread may still hold rows, and a failed write may only show now */
+    double ft = 0;
+    if (io.sink && fc_csv_sink_finish(io.sink, &ft) && !io.write_errno) {
+      io.write_errno = errno ? errno : EIO;
+      io.failed = io.csv;
+      io.fail_t = ft;
+      if (!rc || rc == FC_EINTR) rc = FC_EIO;
+    }
     if (rc && io.write_errno) { /* the disk, not the network: name the output, not the input */
       fc_error_clear(err);
       fc_fail(err, FC_EIO, NULL, "writing %s failed at t = %.9g s: %s; no output was written",

@@ -1,7 +1,18 @@
 /* ferrocirc — time-series CSV writer (see output.h). Values are converted from SI to the report
- * units once per number, at the edge. Each row is formatted into one buffer ("%.9g" by
- * src/fmt_g.c, the same bytes as printf, several times faster) and handed to stdio whole. */
+ * units once per number, at the edge.
+ *
+ * Why a second thread: the run produces samples far faster than text can be made of them (a
+ * row of 100 numbers is about 3 us of formatting and 1.2 kB to write), so on a machine with
+ * two cores the rows are formatted and written while the integrator goes on. The run copies
+ * each row's raw doubles into one of two blocks; when a block is full it is handed to the
+ * writer thread, which formats it ("%.9g" by src/fmt_g.c, the same bytes as printf) into one
+ * buffer and writes it with one fwrite, while the run fills the other block. The bytes are the
+ * same as writing each row at once; only when a failed write is noticed changes (at the next
+ * hand-over, or at fc_csv_sink_finish). Where no thread can be started, blocks are written by
+ * the caller. */
+#include <errno.h>
 #include <math.h>
+#include <pthread.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -9,6 +20,8 @@
 #include "ferrocirc/output.h"
 #include "fmt_g.h"
 #include "net.h"
+
+enum { BLOCK_BYTES = 1 << 18 }; /* raw doubles per block: 256 kB, well inside L2 and L3 */
 
 struct fc_csv_sink {
   const fc_net *net;
@@ -18,7 +31,22 @@ struct fc_csv_sink {
   int nq;
   int *scol;          /* elements with a state column */
   int ns;
-  char *buf;          /* one row */
+  int width;          /* doubles per raw row: t, pressures, flows, states */
+  int rows;           /* rows per block */
+  double *blk[2];     /* raw rows: the run fills blk[cur] while the writer formats the other */
+  int fill[2];        /* rows in each block when handed over */
+  double t0[2];       /* time of each block's first row */
+  int cur, n;         /* block being filled, rows in it */
+  char *text[2];      /* each block as text */
+  size_t len[2];      /* its length once formatted, 0 while the block is raw */
+  pthread_t th;
+  int threaded;       /* the writer thread runs */
+  pthread_mutex_t mu;
+  pthread_cond_t cv;
+  int pending;        /* block handed to the writer, -1 if none */
+  int stop;           /* no more blocks */
+  int werr;           /* errno of the first failed write, 0 if none */
+  double werr_t;      /* time of the first row of the block whose write failed */
 };
 
 static void put_name(FILE *f, const char *prefix, const char *name, const char *unit)
@@ -35,6 +63,93 @@ static void put_name(FILE *f, const char *prefix, const char *name, const char *
   if (quote) fputc('"', f);
 }
 
+static char *number(char *o, double v)
+{
+  *o++ = ',';
+  return o + fci_fmt_g9(o, v);
+}
+
+/* Formats block b into its text buffer. */
+static void format_block(fc_csv_sink *c, int b)
+{
+  const double *r = c->blk[b];
+  const int np = c->net->nNode, nv = np + c->nq;
+  char *o = c->text[b];
+  for (int i = 0; i < c->fill[b]; i++, r += c->width) {
+    o += fci_fmt_g9(o, r[0]);
+    for (int k = 1; k <= np; k++) o = number(o, r[k] * c->pf + 0.0);
+    for (int k = np + 1; k <= nv; k++) o = number(o, r[k] * c->qf + 0.0);
+    for (int k = nv + 1; k < c->width; k++) {
+      int m = (int)r[k];
+      if (m >= 0 && m <= 9) { *o++ = ','; *o++ = (char)('0' + m); }
+      else o += snprintf(o, 13, ",%d", m);
+    }
+    *o++ = '\n';
+  }
+  c->len[b] = (size_t)(o - c->text[b]);
+}
+
+/* Writes block b, formatting it first unless the run already did; returns 0 or an errno
+ * value. */
+static int write_block(fc_csv_sink *c, int b)
+{
+  if (!c->len[b]) format_block(c, b);
+  size_t len = c->len[b];
+  c->len[b] = 0;
+  errno = 0;
+  if (fwrite(c->text[b], 1, len, c->f) != len || ferror(c->f)) return errno ? errno : EIO;
+  return 0;
+}
+
+static void *writer(void *arg)
+{
+  fc_csv_sink *c = arg;
+  pthread_mutex_lock(&c->mu);
+  for (;;) {
+    while (c->pending < 0 && !c->stop) pthread_cond_wait(&c->cv, &c->mu);
+    if (c->pending < 0) break;
+    int b = c->pending, failed = c->werr;
+    pthread_mutex_unlock(&c->mu);
+    int e = failed ? 0 : write_block(c, b); /* after a failure the rest is dropped */
+    pthread_mutex_lock(&c->mu);
+    if (e && !c->werr) { c->werr = e; c->werr_t = c->t0[b]; }
+    c->pending = -1;
+    pthread_cond_broadcast(&c->cv);
+  }
+  pthread_mutex_unlock(&c->mu);
+  return NULL;
+}
+
+/* Hands the current block to the writer (waiting until it has taken the previous one), or
+ * writes it here without a thread; returns 0 or an errno value of the first failed write. */
+static int hand_over(fc_csv_sink *c)
+{
+  int b = c->cur;
+  c->fill[b] = c->n;
+  c->n = 0;
+  if (!c->fill[b]) return c->werr;
+  if (!c->threaded) {
+    int e = c->werr ? 0 : write_block(c, b);
+    if (e && !c->werr) { c->werr = e; c->werr_t = c->t0[b]; }
+    return c->werr;
+  }
+  /* The writer still busy with the last block: rather than wait, the run formats this one
+   * itself, so that the formatting is shared between the two threads as their loads allow. */
+  pthread_mutex_lock(&c->mu);
+  if (c->pending >= 0) {
+    pthread_mutex_unlock(&c->mu);
+    format_block(c, b);
+    pthread_mutex_lock(&c->mu);
+  }
+  while (c->pending >= 0) pthread_cond_wait(&c->cv, &c->mu);
+  c->pending = b;
+  int e = c->werr;
+  pthread_cond_broadcast(&c->cv);
+  pthread_mutex_unlock(&c->mu);
+  c->cur ^= 1;
+  return e;
+}
+
 int fc_csv_sink_new(const fc_net *net, FILE *f, double p_factor, double q_factor,
                     const char *p_unit, const char *q_unit, fc_csv_sink **out, fc_error *err)
 {
@@ -45,19 +160,11 @@ int fc_csv_sink_new(const fc_net *net, FILE *f, double p_factor, double q_factor
     fc_csv_sink_free(c);
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
   }
-  for (int i = 0; i < net->nElem; i++) c->nq += net->elem[i].nTerm == 2;
-  for (int i = 0; i < net->nElem; i++) c->ns += net->elem[i].nRoot > 0;
-  /* every number: a comma and at most FCI_FMT_G9_MAX - 1 characters; modes: 12 each */
-  size_t cap = ((size_t)net->nNode + (size_t)c->nq + 1) * FCI_FMT_G9_MAX + (size_t)c->ns * 12 + 2;
-  if (!(c->buf = fc_malloc(cap))) {
-    fc_csv_sink_free(c);
-    return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
-  }
-  c->nq = c->ns = 0;
   c->net = net;
   c->f = f;
   c->pf = p_factor;
   c->qf = q_factor;
+  c->pending = -1;
   fputs("t [s]", f);
   for (int n = 0; n < net->nNode; n++) put_name(f, "p:", net->nodeName[n], p_unit);
   for (int i = 0; i < net->nElem; i++)
@@ -71,39 +178,82 @@ int fc_csv_sink_new(const fc_net *net, FILE *f, double p_factor, double q_factor
       put_name(f, "state:", net->elem[i].id, NULL);
     }
   fputc('\n', f);
+  c->width = 1 + net->nNode + c->nq + c->ns;
+  c->rows = BLOCK_BYTES / (int)sizeof(double) / c->width;
+  if (c->rows < 1) c->rows = 1;
+  /* every number: a comma and at most FCI_FMT_G9_MAX - 1 characters; modes: 12 each */
+  size_t line = ((size_t)net->nNode + (size_t)c->nq + 1) * FCI_FMT_G9_MAX + (size_t)c->ns * 12 + 2;
+  size_t raw = (size_t)c->rows * (size_t)c->width;
+  if (!(c->blk[0] = fc_malloc(raw * sizeof(double))) ||
+      !(c->blk[1] = fc_malloc(raw * sizeof(double))) ||
+      !(c->text[0] = fc_malloc(line * (size_t)c->rows)) ||
+      !(c->text[1] = fc_malloc(line * (size_t)c->rows))) {
+    fc_csv_sink_free(c);
+    return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
+  }
+  if (!pthread_mutex_init(&c->mu, NULL)) {
+    if (!pthread_cond_init(&c->cv, NULL)) {
+      c->threaded = !pthread_create(&c->th, NULL, writer, c);
+      if (!c->threaded) pthread_cond_destroy(&c->cv);
+    }
+    if (!c->threaded) pthread_mutex_destroy(&c->mu);
+  }
   *out = c;
   return FC_OK;
+}
+
+int fc_csv_sink_finish(fc_csv_sink *c, double *fail_t)
+{
+  if (!c) return 0;
+  hand_over(c);
+  if (c->threaded) {
+    pthread_mutex_lock(&c->mu);
+    c->stop = 1;
+    pthread_cond_broadcast(&c->cv);
+    pthread_mutex_unlock(&c->mu);
+    pthread_join(c->th, NULL);
+    pthread_cond_destroy(&c->cv);
+    pthread_mutex_destroy(&c->mu);
+    c->threaded = 0;
+  }
+  if (!c->werr) return 0;
+  if (fail_t) *fail_t = c->werr_t;
+  errno = c->werr;
+  return -1;
 }
 
 void fc_csv_sink_free(fc_csv_sink *c)
 {
   if (!c) return;
+  if (c->threaded) {
+    c->n = 0; /* drop what was not handed over */
+    fc_csv_sink_finish(c, NULL);
+  }
   fc_free(c->qcol);
   fc_free(c->scol);
-  fc_free(c->buf);
+  fc_free(c->blk[0]);
+  fc_free(c->blk[1]);
+  fc_free(c->text[0]);
+  fc_free(c->text[1]);
   fc_free(c);
-}
-
-static char *number(char *o, double v)
-{
-  *o++ = ',';
-  return o + fci_fmt_g9(o, v);
 }
 
 static int row(void *ctx, double t, const double *p, const double *q, const int *mode)
 {
   fc_csv_sink *c = ctx;
-  char *o = c->buf + fci_fmt_g9(c->buf, t);
-  for (int n = 0; n < c->net->nNode; n++) o = number(o, p[n] * c->pf + 0.0);
-  for (int k = 0; k < c->nq; k++) o = number(o, q[c->qcol[k]] * c->qf + 0.0);
-  for (int k = 0; k < c->ns; k++) {
-    int m = mode[c->scol[k]];
-    if (m >= 0 && m <= 9) { *o++ = ','; *o++ = (char)('0' + m); }
-    else o += snprintf(o, 13, ",%d", m);
-  }
-  *o++ = '\n';
-  size_t len = (size_t)(o - c->buf);
-  return fwrite(c->buf, 1, len, c->f) != len || ferror(c->f) ? -1 : 0;
+  double *r = c->blk[c->cur] + (size_t)c->n * (size_t)c->width;
+  const int np = c->net->nNode;
+  if (!c->n) c->t0[c->cur] = t;
+  r[0] = t;
+  memcpy(r + 1, p, (size_t)np * sizeof *p);
+  r += 1 + np;
+  for (int k = 0; k < c->nq; k++) r[k] = q[c->qcol[k]];
+  r += c->nq;
+  for (int k = 0; k < c->ns; k++) r[k] = mode[c->scol[k]];
+  if (++c->n < c->rows) return 0;
+  int e = hand_over(c);
+  if (e) errno = e;
+  return e ? -1 : 0;
 }
 
 void fc_csv_sink_bind(fc_csv_sink *c, fc_sim_sink *sink)

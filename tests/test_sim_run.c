@@ -161,6 +161,7 @@ static char *csv_of(const char *json, size_t *len)
   fc_sim_sink sink = {0};
   fc_csv_sink_bind(c, &sink);
   int rc = fc_sim_run(net, &sink, &res, &err);
+  assert_int_equal(fc_csv_sink_finish(c, NULL), 0);
   fclose(f);
   fc_csv_sink_free(c);
   fc_sim_result_free(res);

@@ -37,6 +37,10 @@ int fc_outfile_keep_partial(fc_outfile *f, const char *note, fc_error *err);
 typedef struct fc_csv_sink fc_csv_sink;
 int fc_csv_sink_new(const fc_net *net, FILE *f, double p_factor, double q_factor,
                     const char *p_unit, const char *q_unit, fc_csv_sink **out, fc_error *err);
+/* Writes every row not yet written and stops the writer thread; 0, or -1 with errno set (and
+ * *fail_t, if not NULL, the time of the first row that could not be written). Call it before
+ * the file is closed; fc_csv_sink_free without it drops the rows not yet handed over. */
+int fc_csv_sink_finish(fc_csv_sink *c, double *fail_t);
 void fc_csv_sink_free(fc_csv_sink *c);
 /* Fill a sim sink that writes rows through c. */
 void fc_csv_sink_bind(fc_csv_sink *c, fc_sim_sink *sink);
