@@ -4,13 +4,16 @@
  * Why a second thread: the run produces samples far faster than text can be made of them (a
  * row of 100 numbers is about 3 us of formatting and 1.2 kB to write), so on a machine with
  * two cores the rows are formatted and written while the integrator goes on. The run copies
- * each row's raw doubles into one of two blocks; when a block is full it is handed to the
+ * each row's raw doubles into a block of a ring; when a block is full it is queued for the
  * writer thread, which formats it ("%.9g" by src/fmt_g.c, the same bytes as printf) into one
- * buffer and writes it with one fwrite, while the run fills the other block. The bytes are the
+ * buffer and writes it with one fwrite, while the run fills the next block. When the writer
+ * is behind, the run formats its block itself before queueing it. The bytes are the
  * same as writing each row at once; only when a failed write is noticed changes (at the next
  * hand-over, or at fc_csv_sink_finish). Where no thread can be started, blocks are written by
  * the caller. */
+#define _GNU_SOURCE /* sync_file_range (Linux) */
 #include <errno.h>
+#include <fcntl.h>
 #include <math.h>
 #include <pthread.h>
 #include <stdio.h>
@@ -21,7 +24,10 @@
 #include "fmt_g.h"
 #include "net.h"
 
-enum { BLOCK_BYTES = 1 << 18 }; /* raw doubles per block: 256 kB, well inside L2 and L3 */
+/* Raw doubles per block: 256 kB, well inside L2 and L3. NBLOCK blocks in a ring, so that
+ * neither thread waits for the other at each hand-over (a sleeping thread takes tens of
+ * microseconds to wake on a virtual machine). */
+enum { BLOCK_BYTES = 1 << 18, NBLOCK = 4 };
 
 struct fc_csv_sink {
   const fc_net *net;
@@ -33,20 +39,22 @@ struct fc_csv_sink {
   int ns;
   int width;          /* doubles per raw row: t, pressures, flows, states */
   int rows;           /* rows per block */
-  double *blk[2];     /* raw rows: the run fills blk[cur] while the writer formats the other */
-  int fill[2];        /* rows in each block when handed over */
-  double t0[2];       /* time of each block's first row */
+  double *blk[NBLOCK]; /* raw rows: the run fills blk[cur], the writer empties them in turn */
+  int fill[NBLOCK];   /* rows in each block when handed over */
+  double t0[NBLOCK];  /* time of each block's first row */
   int cur, n;         /* block being filled, rows in it */
-  char *text[2];      /* each block as text */
-  size_t len[2];      /* its length once formatted, 0 while the block is raw */
+  int wr;             /* next block the writer takes */
+  char *text[NBLOCK]; /* each block as text */
+  size_t len[NBLOCK]; /* its length once formatted, 0 while the block is raw */
   pthread_t th;
   int threaded;       /* the writer thread runs */
   pthread_mutex_t mu;
   pthread_cond_t cv;
-  int pending;        /* block handed to the writer, -1 if none */
+  int pending;        /* blocks handed to the writer and not yet written */
   int stop;           /* no more blocks */
   int werr;           /* errno of the first failed write, 0 if none */
   double werr_t;      /* time of the first row of the block whose write failed */
+  size_t unsynced;    /* bytes written since the last write-back was started */
 };
 
 static void put_name(FILE *f, const char *prefix, const char *name, const char *unit)
@@ -98,6 +106,19 @@ static int write_block(fc_csv_sink *c, int b)
   c->len[b] = 0;
   errno = 0;
   if (fwrite(c->text[b], 1, len, c->f) != len || ferror(c->f)) return errno ? errno : EIO;
+#ifdef SYNC_FILE_RANGE_WRITE
+  /* The file is made durable (fsync) before it is renamed into place; a CSV of a gigabyte
+   * then waits about a second for the disk at the end. Starting the write-back of what is
+   * written every 32 MB lets the disk work while the run goes on (sync_file_range(2),
+   * SYNC_FILE_RANGE_WRITE: start write-out of dirty pages, do not wait). A hint: its result
+   * does not matter, the final fsync checks. */
+  c->unsynced += len;
+  int fd = fileno(c->f);
+  if (c->unsynced >= (32u << 20) && fd >= 0) {
+    (void)sync_file_range(fd, 0, 0, SYNC_FILE_RANGE_WRITE);
+    c->unsynced = 0;
+  }
+#endif
   return 0;
 }
 
@@ -106,21 +127,22 @@ static void *writer(void *arg)
   fc_csv_sink *c = arg;
   pthread_mutex_lock(&c->mu);
   for (;;) {
-    while (c->pending < 0 && !c->stop) pthread_cond_wait(&c->cv, &c->mu);
-    if (c->pending < 0) break;
-    int b = c->pending, failed = c->werr;
+    while (!c->pending && !c->stop) pthread_cond_wait(&c->cv, &c->mu);
+    if (!c->pending) break;
+    int b = c->wr, failed = c->werr;
     pthread_mutex_unlock(&c->mu);
     int e = failed ? 0 : write_block(c, b); /* after a failure the rest is dropped */
     pthread_mutex_lock(&c->mu);
     if (e && !c->werr) { c->werr = e; c->werr_t = c->t0[b]; }
-    c->pending = -1;
+    c->pending--;
+    c->wr = (c->wr + 1) % NBLOCK;
     pthread_cond_broadcast(&c->cv);
   }
   pthread_mutex_unlock(&c->mu);
   return NULL;
 }
 
-/* Hands the current block to the writer (waiting until it has taken the previous one), or
+/* Hands the current block to the writer (waiting while every other block is still queued), or
  * writes it here without a thread; returns 0 or an errno value of the first failed write. */
 static int hand_over(fc_csv_sink *c)
 {
@@ -133,20 +155,20 @@ static int hand_over(fc_csv_sink *c)
     if (e && !c->werr) { c->werr = e; c->werr_t = c->t0[b]; }
     return c->werr;
   }
-  /* The writer still busy with the last block: rather than wait, the run formats this one
-   * itself, so that the formatting is shared between the two threads as their loads allow. */
+  /* The writer still has blocks queued: the run formats this one itself, so that the
+   * formatting is shared between the two threads as their loads allow. */
   pthread_mutex_lock(&c->mu);
-  if (c->pending >= 0) {
+  if (c->pending >= 2) {
     pthread_mutex_unlock(&c->mu);
     format_block(c, b);
     pthread_mutex_lock(&c->mu);
   }
-  while (c->pending >= 0) pthread_cond_wait(&c->cv, &c->mu);
-  c->pending = b;
-  int e = c->werr;
+  c->pending++;
   pthread_cond_broadcast(&c->cv);
+  while (c->pending == NBLOCK) pthread_cond_wait(&c->cv, &c->mu); /* the next block is queued */
+  int e = c->werr;
   pthread_mutex_unlock(&c->mu);
-  c->cur ^= 1;
+  c->cur = (c->cur + 1) % NBLOCK;
   return e;
 }
 
@@ -164,7 +186,7 @@ int fc_csv_sink_new(const fc_net *net, FILE *f, double p_factor, double q_factor
   c->f = f;
   c->pf = p_factor;
   c->qf = q_factor;
-  c->pending = -1;
+  c->pending = 0;
   fputs("t [s]", f);
   for (int n = 0; n < net->nNode; n++) put_name(f, "p:", net->nodeName[n], p_unit);
   for (int i = 0; i < net->nElem; i++)
@@ -184,13 +206,12 @@ int fc_csv_sink_new(const fc_net *net, FILE *f, double p_factor, double q_factor
   /* every number: a comma and at most FCI_FMT_G9_MAX - 1 characters; modes: 12 each */
   size_t line = ((size_t)net->nNode + (size_t)c->nq + 1) * FCI_FMT_G9_MAX + (size_t)c->ns * 12 + 2;
   size_t raw = (size_t)c->rows * (size_t)c->width;
-  if (!(c->blk[0] = fc_malloc(raw * sizeof(double))) ||
-      !(c->blk[1] = fc_malloc(raw * sizeof(double))) ||
-      !(c->text[0] = fc_malloc(line * (size_t)c->rows)) ||
-      !(c->text[1] = fc_malloc(line * (size_t)c->rows))) {
-    fc_csv_sink_free(c);
-    return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
-  }
+  for (int b = 0; b < NBLOCK; b++)
+    if (!(c->blk[b] = fc_malloc(raw * sizeof(double))) ||
+        !(c->text[b] = fc_malloc(line * (size_t)c->rows))) {
+      fc_csv_sink_free(c);
+      return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
+    }
   if (!pthread_mutex_init(&c->mu, NULL)) {
     if (!pthread_cond_init(&c->cv, NULL)) {
       c->threaded = !pthread_create(&c->th, NULL, writer, c);
@@ -231,10 +252,10 @@ void fc_csv_sink_free(fc_csv_sink *c)
   }
   fc_free(c->qcol);
   fc_free(c->scol);
-  fc_free(c->blk[0]);
-  fc_free(c->blk[1]);
-  fc_free(c->text[0]);
-  fc_free(c->text[1]);
+  for (int b = 0; b < NBLOCK; b++) {
+    fc_free(c->blk[b]);
+    fc_free(c->text[b]);
+  }
   fc_free(c);
 }
 

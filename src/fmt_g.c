@@ -12,9 +12,15 @@
  * d / 10^-k is one correctly rounded operation: error below 2^-53 x 10^9 = 1.2e-7. Otherwise s
  * is formed in x87 extended precision (64-bit significand) from a product of at most nine
  * powers 10^(2^i), each a correctly rounded literal (relative error below 20 x 2^-64), and
- * rounded to double: error below 1.3e-7. Whenever the fraction of the computed s is within
- * 1e-6 of 1/2 (a tie, or too close to one to decide), snprintf does the conversion instead, so
- * the rounding is always the exact one. Non-finite values, zero, and |8 - X| > 22 on platforms
+ * rounded to double: error below 1.3e-7. In the one-operation case the rounding is decided
+ * exactly: the computed s is within half an ulp of the true one, and its fraction is a multiple
+ * of that ulp, so a computed fraction other than 1/2 lies on the same side of 1/2 as the true
+ * one; a computed fraction of exactly 1/2 is decided by the sign of the operation's exact error,
+ * fma(d, 10^k, -s) or the division's remainder fma(-s, 10^-k, d) (both exact: Boldo and
+ * Muller, "Exact and approximated error of the FMA", IEEE Trans. Computers 60(2), 2011), a
+ * zero error being a true tie, rounded to even. In the extended case, whenever the fraction of
+ * the computed s is within 1e-6 of 1/2, snprintf does the conversion instead, so the rounding
+ * is always the exact one. Non-finite values, zero, and |8 - X| > 22 on platforms
  * without a 64-bit long double significand go to snprintf as well.
  * The %g rule (C11 7.21.6.1): exponent form if X < -4 or X >= precision (9), else fixed; then
  * trailing zeros, and a trailing decimal point, are removed; the exponent has at least two
@@ -105,48 +111,46 @@ static const char pairs[201] =
     "40414243444546474849505152535455565758596061626364656667686970717273747576777879"
     "8081828384858687888990919293949596979899";
 
-/* fci_fmt_layout for P = 9, the CSV's every number: digits by pairs, and the fixed and
- * exponent forms copied in blocks. Same bytes (tests/test_fmt.c). */
+/* fci_fmt_layout for P = 9, the CSV's every number: digits by pairs, and every piece copied
+ * with a fixed length (16 bytes, or the 8 of "0.000000") and the end set after it, so there
+ * is no variable-length copy and no loop; the bytes past the end are scratch that the next
+ * number overwrites (buf holds FCI_FMT_G9_MAX = 32 bytes: at most 2 + 9 + 16 are touched).
+ * Same bytes as fci_fmt_layout (tests/test_fmt.c). */
 static int layout9(char *buf, int neg, uint32_t r, int X)
 {
-  char d[12];
+  char d[32];
   uint32_t hi = r / 100000000u, lo = r % 100000000u, a = lo / 10000u, b = lo % 10000u;
   d[0] = (char)('0' + hi);
   memcpy(d + 1, pairs + 2 * (a / 100u), 2);
   memcpy(d + 3, pairs + 2 * (a % 100u), 2);
   memcpy(d + 5, pairs + 2 * (b / 100u), 2);
   memcpy(d + 7, pairs + 2 * (b % 100u), 2);
-  int nd = lo == 0 ? 1 : b == 0 ? 5 : 9;
-  while (nd > 1 && d[nd - 1] == '0') nd--;
+  memset(d + 9, '0', 23);
+  int nd = lo == 0 ? 1 : b == 0 ? 5 : 9; /* significant digits, trailing zeros dropped */
+  while (d[nd - 1] == '0') nd--;
   char *o = buf;
   *o = '-';
   o += neg;
-  if (X < -4 || X >= 9) {
-    *o++ = d[0];
-    if (nd > 1) {
-      *o++ = '.';
-      memcpy(o, d + 1, (size_t)nd - 1);
-      o += nd - 1;
-    }
+  if (X >= 0 && X < 9) { /* ddd.ddd: the digits, then the fraction again one place on */
+    memcpy(o, d, 16);
+    memcpy(o + X + 2, d + X + 1, 16);
+    o[X + 1] = '.';
+    o += nd > X + 1 ? nd + 1 : X + 1;
+  } else if (X < 0 && X >= -4) { /* 0.000ddd */
+    memcpy(o, "0.000000", 8);
+    memcpy(o + 1 - X, d, 16);
+    o += 1 - X + nd;
+  } else { /* d.ddde+XX */
+    o[0] = d[0];
+    o[1] = '.';
+    memcpy(o + 2, d + 1, 16);
+    o += nd > 1 ? nd + 1 : 1;
     *o++ = 'e';
     *o++ = X < 0 ? '-' : '+';
     int ax = X < 0 ? -X : X;
     if (ax >= 100) { *o++ = (char)('0' + ax / 100); ax %= 100; }
     memcpy(o, pairs + 2 * ax, 2);
     o += 2;
-  } else if (X >= 0) {
-    memcpy(o, d, (size_t)X + 1);
-    o += X + 1;
-    if (nd > X + 1) {
-      *o++ = '.';
-      memcpy(o, d + X + 1, (size_t)(nd - X - 1));
-      o += nd - X - 1;
-    }
-  } else {
-    memcpy(o, "0.0000", (size_t)(1 - X)); /* "0." and -X - 1 zeros */
-    o += 1 - X;
-    memcpy(o, d, (size_t)nd);
-    o += nd;
   }
   *o = '\0';
   return (int)(o - buf);
@@ -176,8 +180,14 @@ int fci_fmt_g9(char *buf, double v)
   if (!(s >= 1e8 - 0.5 && s < 1e9)) return slow(buf, v);
   uint32_t fl = (uint32_t)s;
   double frac = s - (double)fl; /* exact: s < 2^30 */
-  if (fabs(frac - 0.5) < 1e-6) return slow(buf, v);
   uint32_t r = fl + (frac > 0.5);
+  int k = 8 - X;
+  if (k < -22 || k > 22) {
+    if (fabs(frac - 0.5) < 1e-6) return slow(buf, v);
+  } else if (frac == 0.5) {
+    double e = k >= 0 ? fma(d, p10[k], -s) : fma(-s, p10[-k], d); /* true s - s, in sign */
+    r = fl + (e > 0 || (e == 0 && (fl & 1)));
+  }
   if (r >= 1000000000u) { r = 100000000u; X++; }
   return layout9(buf, neg, r, X);
 }
