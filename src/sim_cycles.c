@@ -102,9 +102,14 @@ void fci_cycles_extremes(fci_run *R)
     if (q > R->c_qmax[i]) R->c_qmax[i] = q;
     if (q < R->c_qmin[i]) R->c_qmin[i] = q;
   }
+  /* Every node, at every step end and interior point: written without branches so that the
+   * compiler vectorises it (minpd/maxpd; the same values: x < m ? x : m keeps m on ties and
+   * NaN, as the branch did). */
+  const double *p = s->p;
+  double *pmin = R->c_pmin, *pmax = R->c_pmax;
   for (int n = 0; n < s->nN; n++) {
-    if (s->p[n] < R->c_pmin[n]) R->c_pmin[n] = s->p[n];
-    if (s->p[n] > R->c_pmax[n]) R->c_pmax[n] = s->p[n];
+    pmin[n] = p[n] < pmin[n] ? p[n] : pmin[n];
+    pmax[n] = p[n] > pmax[n] ? p[n] : pmax[n];
   }
 }
 
