@@ -4,7 +4,8 @@
 #   tree  circuit (b) with 14 chambers (100 columns), 20 beats sampled every 20 us: a fast run
 #   loops circuit (a) with 8 pump loops (107 columns), 1000 beats at rel_tol 1e-4, every 1 ms
 # For each binary given: the run without a CSV, with the CSV to a file in OUTDIR, and the
-# kernel's own floor for that many bytes (dd from /dev/zero, 1 MiB blocks). Median of REPEAT.
+# kernel's own floor for that many bytes made durable, as ferrocirc makes its outputs before
+# renaming them (dd from /dev/zero, 1 MiB blocks, conv=fsync). Median of REPEAT.
 # Usage: csv_bench.sh OUTDIR BIN [BIN...]   (REPEAT=3 by default)
 set -eu
 OUT=$1; shift
@@ -14,8 +15,8 @@ mkdir -p "$OUT"
 W=$(mktemp -d)
 trap 'rm -rf "$W"' EXIT
 /usr/bin/python3 "$HERE/gen_tree.py" 14 20 "$W/tree.json" --si --valve --pump pressure --no-trap \
-  --wall-compliance 2e-16 --no-culture --short-ids 2>/dev/null
-/usr/bin/python3 "$HERE/gen_loop.py" 8 1000 "$W/loops.json" 2>/dev/null
+  --wall-compliance 2e-16 --no-culture --short-ids >/dev/null 2>&1
+/usr/bin/python3 "$HERE/gen_loop.py" 8 1000 "$W/loops.json" >/dev/null 2>&1
 /usr/bin/python3 - "$W" <<'PY'
 import json, sys
 w = sys.argv[1]
@@ -45,7 +46,7 @@ for net in tree loops; do
     cols=$(head -1 "$OUT/$net.csv" | tr ',' '\n' | wc -l)
     for _ in $(seq "$REPEAT"); do
       rm -f "$OUT/dd.bin"
-      /usr/bin/time -f "%e" -o "$W/t" dd if=/dev/zero of="$OUT/dd.bin" bs=1M \
+      /usr/bin/time -f "%e" -o "$W/t" dd if=/dev/zero of="$OUT/dd.bin" bs=1M conv=fsync \
         count=$(((bytes + 1048575) / 1048576)) 2>/dev/null
       cat "$W/t" >>"$W/c.tt"
     done
