@@ -52,6 +52,38 @@ void fci_cycles_free(fci_run *R)
   fc_free(R->win_start); fc_free(R->win_count); fc_free(R->ph1); fc_free(R->ph2);
 }
 
+static void element_extremes(fci_run *R)
+{
+  const fci_sys *s = R->sys;
+  for (int l = 0; l < R->next_el; l++) {
+    int i = R->ext_el[l];
+    double dp = s->p[s->ea[i]] - s->p[s->eb[i]], q = s->q[i];
+    if (dp > R->c_dpmax[i]) R->c_dpmax[i] = dp;
+    if (dp < R->c_dpmin[i]) R->c_dpmin[i] = dp;
+    if (q > R->c_qmax[i]) R->c_qmax[i] = q;
+    if (q < R->c_qmin[i]) R->c_qmin[i] = q;
+  }
+}
+
+/* Every node, at every step end and interior point: written without branches so that the
+ * compiler vectorises it (minpd/maxpd; the same values: x < m ? x : m keeps m on ties and
+ * NaN, as the branch did). */
+static void node_extremes(fci_run *R)
+{
+  const double *p = R->sys->p;
+  double *pmin = R->c_pmin, *pmax = R->c_pmax;
+  for (int n = 0; n < R->sys->nN; n++) {
+    pmin[n] = p[n] < pmin[n] ? p[n] : pmin[n];
+    pmax[n] = p[n] > pmax[n] ? p[n] : pmax[n];
+  }
+}
+
+void fci_cycles_extremes(fci_run *R)
+{
+  element_extremes(R);
+  node_extremes(R);
+}
+
 /* Extremes between step ends. Step ends are where the integrator's error control holds, but
  * a smooth peak usually falls inside a step, and the largest step-end value then misses it by
  * about p'' h^2 / 8. When the middle one of three successive step-end pressures (t2, p2),
@@ -66,11 +98,20 @@ void fci_cycles_free(fci_run *R)
 static void refine_extremes(fci_run *R, double t)
 {
   const fci_sys *s = R->sys;
-  if (R->nhist > 0 && t <= R->th1) return; /* the same point again */
+  if (R->nhist > 0 && t <= R->th1) { node_extremes(R); return; } /* the same point again */
+  /* One pass over the nodes: the parabola's vertex, the step end's own pressure (the node
+   * extremes of accumulate) and the history (p goes into the buffer of the oldest point, which
+   * becomes the newest): at 65 536 chambers each pass streams megabytes. */
+  const double *p = s->p;
+  double *pmin = R->c_pmin, *pmax = R->c_pmax, *old = R->ph2;
   if (R->nhist == 2) {
+    const double *mid = R->ph1;
     double h2 = R->th1 - R->th2, h1 = t - R->th1;
     for (int n = 0; n < s->nN; n++) {
-      double a = R->ph2[n], b = R->ph1[n], c = s->p[n];
+      double a = old[n], b = mid[n], c = p[n];
+      old[n] = c;
+      pmin[n] = c < pmin[n] ? c : pmin[n];
+      pmax[n] = c > pmax[n] ? c : pmax[n];
       if (!((b > a && b > c) || (b < a && b < c))) continue;
       /* Divided differences: slopes of the two chords, and k, half the curvature. */
       double m2 = (b - a) / h2, m1 = (c - b) / h1, k = (m1 - m2) / (h1 + h2);
@@ -78,42 +119,22 @@ static void refine_extremes(fci_run *R, double t)
       /* The parabola b + m d + k d^2 in d = tau - t1, m its slope at t1. */
       double m = m2 + k * h2, d = -m / (2 * k), v = b + m * d + k * d * d;
       if (!(d > -h2 && d < h1) || !isfinite(v)) continue;
-      if (v > R->c_pmax[n]) R->c_pmax[n] = v;
-      if (v < R->c_pmin[n]) R->c_pmin[n] = v;
+      if (v > pmax[n]) pmax[n] = v;
+      if (v < pmin[n]) pmin[n] = v;
     }
+  } else {
+    memcpy(old, p, (size_t)s->nN * sizeof *p);
+    node_extremes(R);
   }
-  double *tmp = R->ph2;
   R->ph2 = R->ph1;
-  R->ph1 = tmp;
-  memcpy(R->ph1, s->p, (size_t)s->nN * sizeof *s->p);
+  R->ph1 = old;
   R->th2 = R->th1;
   R->th1 = t;
   R->nhist = R->step_stopped ? 1 : (R->nhist < 2 ? R->nhist + 1 : 2);
 }
 
-void fci_cycles_extremes(fci_run *R)
-{
-  const fci_sys *s = R->sys;
-  for (int l = 0; l < R->next_el; l++) {
-    int i = R->ext_el[l];
-    double dp = s->p[s->ea[i]] - s->p[s->eb[i]], q = s->q[i];
-    if (dp > R->c_dpmax[i]) R->c_dpmax[i] = dp;
-    if (dp < R->c_dpmin[i]) R->c_dpmin[i] = dp;
-    if (q > R->c_qmax[i]) R->c_qmax[i] = q;
-    if (q < R->c_qmin[i]) R->c_qmin[i] = q;
-  }
-  /* Every node, at every step end and interior point: written without branches so that the
-   * compiler vectorises it (minpd/maxpd; the same values: x < m ? x : m keeps m on ties and
-   * NaN, as the branch did). */
-  const double *p = s->p;
-  double *pmin = R->c_pmin, *pmax = R->c_pmax;
-  for (int n = 0; n < s->nN; n++) {
-    pmin[n] = p[n] < pmin[n] ? p[n] : pmin[n];
-    pmax[n] = p[n] > pmax[n] ? p[n] : pmax[n];
-  }
-}
-
-static void accumulate(fci_run *R, double t)
+/* nodes = 0: the node extremes at t were taken already (refine_extremes). */
+static void accumulate(fci_run *R, double t, int nodes)
 {
   const fc_net *net = R->net;
   double dt = t - R->t_prev;
@@ -122,7 +143,8 @@ static void accumulate(fci_run *R, double t)
     if (net->elem[i].mode != 0) R->c_open[i] += dt;
   }
   R->t_prev = t;
-  fci_cycles_extremes(R);
+  element_extremes(R);
+  if (nodes) node_extremes(R);
 }
 
 /* Largest change of any element's cycle net volume, relative to the largest such volume. */
@@ -195,13 +217,13 @@ void fci_cycles_step(fci_run *R, double t, const double *yq)
 {
   double T = R->net->sim.cycle_period;
   refine_extremes(R, t);
-  accumulate(R, t);
+  accumulate(R, t, 0);
   if (!(T > 0) || t < R->next_cycle * (1 - 1e-12)) return;
   if (R->res->nCycle < R->res->nCycleMax) close_cycle(R, yq);
   fci_cycles_fold_extremes(R);
   reset_cycle(R);
   /* Keep the point at the boundary in the next cycle too, so its extremes include it. */
-  accumulate(R, t);
+  accumulate(R, t, 1);
   R->next_cycle = (double)(R->res->nCycle + 1) * T;
 }
 
