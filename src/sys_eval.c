@@ -51,7 +51,18 @@ static void flows(fci_sys *s, double t, const double *x)
   const double *p = s->p, *k = s->lin_k;
   double *q = s->q, *qin = s->qin;
   memset(qin, 0, (size_t)s->nN * sizeof *qin);
-  for (int j = 0; j < s->nlin; j++, k += 3) {
+  /* (0 + g pa) - g pb is k0 + k1 pa + k2 pb with k0 = 0, k2 = -k1, rounding and signed zeros
+   * included. */
+  const double *g = s->lin_g;
+  for (int j = 0; j < s->ncond; j++) {
+    int a = s->lin_a[j], b = s->lin_b[j];
+    double v = (0.0 + g[j] * p[a]) - g[j] * p[b];
+    q[s->lin_el[j]] = v;
+    qin[a] -= v;
+    qin[b] += v;
+  }
+  k += 3 * (size_t)s->ncond;
+  for (int j = s->ncond; j < s->nlin; j++, k += 3) {
     int a = s->lin_a[j], b = s->lin_b[j];
     double v = k[0] + k[1] * p[a] + k[2] * p[b];
     q[s->lin_el[j]] = v;

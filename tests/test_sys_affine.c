@@ -5,6 +5,7 @@
  * differences by tests/test_elements.c): the two must agree to rounding at any gamma, and
  * follow a valve's mode switch. The network has every row the affine path allows: chambers,
  * an algebraic junction (no compliance) and a check valve. */
+#include <math.h>
 #include <stdarg.h>
 #include <stddef.h>
 #include <stdint.h>
@@ -85,10 +86,49 @@ static void affine_matrix_equals_the_stamp_in_every_mode(void **state)
   fc_net_free(net);
 }
 
+/* The evaluation's fast path (src/sys_linear.c: conductances first, each read as one
+ * coefficient, then the other linear elements) gives every element the flow of its own law
+ * (xFlow at the same pressures) in both valve modes; the open valve, with its cracking offset,
+ * is one of the others. */
+static void linear_flows_equal_each_elements_own_law(void **state)
+{
+  (void)state;
+  fc_net *net = NULL;
+  fci_sys *s = NULL;
+  fc_error err = {0};
+  assert_int_equal(fc_net_load_buffer(NET, sizeof NET - 1, "affine.json", ".", g_units, &net, &err), FC_OK);
+  assert_int_equal(fci_sys_build(net, &s, &err), FC_OK);
+  double x[8];
+  for (int k = 0; k < s->nx; k++) x[k] = 3e-16 * (k + 2);
+  int cv = fc_net_elem_find(net, "cv");
+  for (int mode = 0; mode <= 1; mode++) {
+    net->elem[cv].mode = mode;
+    fci_sys_invalidate(s);
+    assert_int_equal(fci_sys_eval(s, 0.1, x), 0);
+    assert_true(s->ncond >= 5 && s->ncond <= s->nlin); /* the channel and the four resistors */
+    if (mode == 1) assert_true(s->lin_of[cv] >= s->ncond); /* k0 != 0: not a conductance */
+    double qmax = 0, dmax = 0;
+    for (int i = 0; i < net->nElem; i++) {
+      const fc_elem *e = &net->elem[i];
+      if (e->role != FC_ROLE_FLOW) continue;
+      double pp[2] = {s->p[e->node[0]], s->p[e->node[1]]};
+      fci_flow f = {0};
+      e->type->xFlow(e, 0.1, pp, NULL, &f);
+      if (fabs(f.q) > qmax) qmax = fabs(f.q);
+      if (fabs(f.q - s->q[i]) > dmax) dmax = fabs(f.q - s->q[i]);
+    }
+    assert_true(qmax > 0);
+    if (dmax > 1e-14 * qmax) fail_msg("mode %d: flows differ from the elements' laws by %g of %g", mode, dmax, qmax);
+  }
+  fci_sys_free(s);
+  fc_net_free(net);
+}
+
 int main(void)
 {
   const struct CMUnitTest tests[] = {
     cmocka_unit_test(affine_matrix_equals_the_stamp_in_every_mode),
+    cmocka_unit_test(linear_flows_equal_each_elements_own_law),
   };
   return cmocka_run_group_tests(tests, units_setup, units_teardown);
 }
