@@ -33,6 +33,14 @@ static const char NET[] =
   "{\"id\":\"drain\",\"type\":\"reservoir\",\"node\":\"d\",\"pressure\":0}],"
   "\"simulation\":{\"duration\":1}}";
 
+/* The network above, loaded and assembled. */
+static void load(fc_net **net, fci_sys **s)
+{
+  fc_error err = {0};
+  assert_int_equal(fc_net_load_buffer(NET, sizeof NET - 1, "affine.json", ".", g_units, net, &err), FC_OK);
+  assert_int_equal(fci_sys_build(*net, s, &err), FC_OK);
+}
+
 /* The matrix at gamma through the path the system chooses, and through the stamp alone. */
 static void both(fci_sys *s, const double *x, double gamma, double *fast, double *ref)
 {
@@ -50,9 +58,7 @@ static void affine_matrix_equals_the_stamp_in_every_mode(void **state)
   (void)state;
   fc_net *net = NULL;
   fci_sys *s = NULL;
-  fc_error err = {0};
-  assert_int_equal(fc_net_load_buffer(NET, sizeof NET - 1, "affine.json", ".", g_units, &net, &err), FC_OK);
-  assert_int_equal(fci_sys_build(net, &s, &err), FC_OK);
+  load(&net, &s);
   assert_true(s->nz > 0 && s->ns > 0 && s->no == 0);
   double x[8], *fast = calloc((size_t)s->A.nnz, sizeof *fast), *ref = calloc((size_t)s->A.nnz, sizeof *ref);
   assert_true(s->nx <= 8 && fast && ref);
@@ -95,9 +101,7 @@ static void linear_flows_equal_each_elements_own_law(void **state)
   (void)state;
   fc_net *net = NULL;
   fci_sys *s = NULL;
-  fc_error err = {0};
-  assert_int_equal(fc_net_load_buffer(NET, sizeof NET - 1, "affine.json", ".", g_units, &net, &err), FC_OK);
-  assert_int_equal(fci_sys_build(net, &s, &err), FC_OK);
+  load(&net, &s);
   double x[8];
   for (int k = 0; k < s->nx; k++) x[k] = 3e-16 * (k + 2);
   int cv = fc_net_elem_find(net, "cv");
