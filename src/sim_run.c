@@ -82,6 +82,18 @@ static int scope_points(fci_run *R)
   if (ok > 0) {
     R->npt_el = n;
     for (int v = 0; v < N; v++) if (nd[v]) R->pt_nd[R->npt_nd++] = v;
+    /* Without samples, the flows read after an evaluation are those of these lists (the
+     * quadratures, flow-sign roots, extremes and step integrals): the evaluation may leave
+     * the others unstored (sys.h qkeep). The samples read every flow. */
+    if (!(R->sink && R->sink->xSample)) {
+      if (!NEW(R->qkeep, E)) ok = -1;
+      for (int l = 0; ok > 0 && l < R->nquad; l++) R->qkeep[R->quad_el[l]] = 1;
+      for (int l = 0; ok > 0 && l < R->nsign; l++) R->qkeep[R->sign_el[l]] = 1;
+      for (int l = 0; ok > 0 && l < R->next_el; l++) R->qkeep[R->ext_el[l]] = 1;
+      for (int l = 0; ok > 0 && l < R->nst_el; l++) R->qkeep[R->st_el[l]] = 1;
+      for (int l = 0; ok > 0 && l < n; l++) R->qkeep[R->pt_el[l]] = 1;
+      if (ok > 0) R->sys->qkeep = R->qkeep;
+    }
   }
   fc_free(nd);
   fc_free(el);
@@ -168,6 +180,7 @@ void fci_run_free(fci_run *R)
   fci_sys_free(R->sys);
   fci_cycles_free(R);
   fc_sim_result_free(R->res);
+  fc_free(R->qkeep);
   fc_free(R->qoff); fc_free(R->quad_el); fc_free(R->qbuf); fc_free(R->modes); fc_free(R->corner_el);
   fc_free(R->rootsfound); fc_free(R->sign_el); fc_free(R->sign_side); fc_free(R->x0); fc_free(R->v0); fc_free(R->vq_cycle);
   fc_free(R->qpn); fc_free(R->qmag); fc_free(R->qtmp);

@@ -74,6 +74,8 @@ typedef struct fci_run {
   int *pt_el, npt_el;        /* "tracked": the FLOW elements an interior point evaluates (the
                                 reported ones and every one at a reported store), */
   int *pt_nd, npt_nd;        /* the nodes whose inflow it needs; npt_el = -1: evaluate all */
+  unsigned char *qkeep;      /* "tracked", no samples: the elements whose flow is ever read
+                                (sys.h qkeep points here), else NULL */
   int *st_store, nst_store;  /* store indices of reported nodes */
 } fci_run;
 

@@ -106,6 +106,9 @@ typedef struct fci_sys {
   int nlin, *lin_el, *lin_a, *lin_b; /* FLOW elements linear in their modes, their nodes */
   double *lin_k;            /* their coefficients, 3 each: q = k0 + k1 p(from) + k2 p(to) */
   int ncond;                /* the first ncond of them are conductances (k0 = 0, k2 = -k1) */
+  const unsigned char *qkeep; /* not NULL: a full evaluation stores the flow q[i] of a
+                               * conductance only where qkeep[i] (the run's "tracked" lists;
+                               * every other element's flow is never read, sim_run.c) */
   double *lin_g;            /* their k1: evaluations stream 8 bytes per element, not 24 */
   int ngen, *gen_el;        /* the other FLOW elements, evaluated through xFlow */
   int *lin_of;              /* per element: its index in the lin_ arrays, -1 if not linear */

@@ -54,13 +54,23 @@ static void flows(fci_sys *s, double t, const double *x)
   /* (0 + g pa) - g pb is k0 + k1 pa + k2 pb with k0 = 0, k2 = -k1, rounding and signed zeros
    * included. */
   const double *g = s->lin_g;
-  for (int j = 0; j < s->ncond; j++) {
-    int a = s->lin_a[j], b = s->lin_b[j];
-    double v = (0.0 + g[j] * p[a]) - g[j] * p[b];
-    q[s->lin_el[j]] = v;
-    qin[a] -= v;
-    qin[b] += v;
-  }
+  const unsigned char *keep = s->qkeep;
+  if (keep) /* the flows nobody reads are not stored: at 10^5 elements, megabytes per pass */
+    for (int j = 0; j < s->ncond; j++) {
+      int a = s->lin_a[j], b = s->lin_b[j], i = s->lin_el[j];
+      double v = (0.0 + g[j] * p[a]) - g[j] * p[b];
+      if (keep[i]) q[i] = v;
+      qin[a] -= v;
+      qin[b] += v;
+    }
+  else
+    for (int j = 0; j < s->ncond; j++) {
+      int a = s->lin_a[j], b = s->lin_b[j];
+      double v = (0.0 + g[j] * p[a]) - g[j] * p[b];
+      q[s->lin_el[j]] = v;
+      qin[a] -= v;
+      qin[b] += v;
+    }
   k += 3 * (size_t)s->ncond;
   for (int j = s->ncond; j < s->nlin; j++, k += 3) {
     int a = s->lin_a[j], b = s->lin_b[j];
