@@ -105,11 +105,13 @@ typedef struct fci_sys {
   int *ea, *eb;             /* per element: from and to node (eb = -1 if one-terminal) */
   int nlin, *lin_el, *lin_a, *lin_b; /* FLOW elements linear in their modes, their nodes */
   double *lin_k;            /* their coefficients, 3 each: q = k0 + k1 p(from) + k2 p(to) */
-  int ncond;                /* the first ncond of them are conductances (k0 = 0, k2 = -k1) */
+  double *lin_g;            /* their k1: a conductance (k0 = 0, k2 = -k1) needs nothing else,
+                             * so evaluations stream 8 bytes of coefficients per element */
+  int nlinx, *linx_j;       /* the linear elements that are not conductances (their lin_ index,
+                             * ascending): flows() takes their k from lin_k */
   const unsigned char *qkeep; /* not NULL: a full evaluation stores the flow q[i] of a
-                               * conductance only where qkeep[i] (the run's "tracked" lists;
+                               * linear element only where qkeep[i] (the run's "tracked" lists;
                                * every other element's flow is never read, sim_run.c) */
-  double *lin_g;            /* their k1: evaluations stream 8 bytes per element, not 24 */
   int ngen, *gen_el;        /* the other FLOW elements, evaluated through xFlow */
   int *lin_of;              /* per element: its index in the lin_ arrays, -1 if not linear */
   /* Index lists, so that the passes made at every evaluation visit only the elements they

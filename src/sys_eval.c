@@ -46,39 +46,43 @@ static void flow_one(fci_sys *s, double t, const double *x, int i)
   s->qin[e->node[1]] += f.q;
 }
 
+/* One linear element's flow: a conductance from its one coefficient, where (0 + g pa) - g pb is
+ * k0 + k1 pa + k2 pb with k0 = 0, k2 = -k1 bit for bit (signed zeros included); the few
+ * others (an open valve, with its offset) from their three. In element order, so the inflow
+ * sums are what they always were. */
+static inline double lin_flow(const fci_sys *s, int j, int *x)
+{
+  const double *p = s->p;
+  int a = s->lin_a[j], b = s->lin_b[j];
+  if (*x < s->nlinx && s->linx_j[*x] == j) {
+    const double *k = s->lin_k + 3 * (size_t)j;
+    ++*x;
+    return k[0] + k[1] * p[a] + k[2] * p[b];
+  }
+  return (0.0 + s->lin_g[j] * p[a]) - s->lin_g[j] * p[b];
+}
+
 static void flows(fci_sys *s, double t, const double *x)
 {
-  const double *p = s->p, *k = s->lin_k;
   double *q = s->q, *qin = s->qin;
   memset(qin, 0, (size_t)s->nN * sizeof *qin);
-  /* (0 + g pa) - g pb is k0 + k1 pa + k2 pb with k0 = 0, k2 = -k1, rounding and signed zeros
-   * included. */
-  const double *g = s->lin_g;
   const unsigned char *keep = s->qkeep;
+  int nx = 0;
   if (keep) /* the flows nobody reads are not stored: at 10^5 elements, megabytes per pass */
-    for (int j = 0; j < s->ncond; j++) {
-      int a = s->lin_a[j], b = s->lin_b[j], i = s->lin_el[j];
-      double v = (0.0 + g[j] * p[a]) - g[j] * p[b];
+    for (int j = 0; j < s->nlin; j++) {
+      int i = s->lin_el[j];
+      double v = lin_flow(s, j, &nx);
       if (keep[i]) q[i] = v;
-      qin[a] -= v;
-      qin[b] += v;
+      qin[s->lin_a[j]] -= v;
+      qin[s->lin_b[j]] += v;
     }
   else
-    for (int j = 0; j < s->ncond; j++) {
-      int a = s->lin_a[j], b = s->lin_b[j];
-      double v = (0.0 + g[j] * p[a]) - g[j] * p[b];
+    for (int j = 0; j < s->nlin; j++) {
+      double v = lin_flow(s, j, &nx);
       q[s->lin_el[j]] = v;
-      qin[a] -= v;
-      qin[b] += v;
+      qin[s->lin_a[j]] -= v;
+      qin[s->lin_b[j]] += v;
     }
-  k += 3 * (size_t)s->ncond;
-  for (int j = s->ncond; j < s->nlin; j++, k += 3) {
-    int a = s->lin_a[j], b = s->lin_b[j];
-    double v = k[0] + k[1] * p[a] + k[2] * p[b];
-    q[s->lin_el[j]] = v;
-    qin[a] -= v;
-    qin[b] += v;
-  }
   for (int g = 0; g < s->ngen; g++) flow_one(s, t, x, s->gen_el[g]);
 }
 

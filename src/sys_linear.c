@@ -19,7 +19,7 @@ int fci_sys_linear_build(fci_sys *s)
   const fc_net *net = s->net;
   if (!NEW(s->ea, s->nE) || !NEW(s->eb, s->nE) || !NEW(s->lin_el, s->nE) ||
       !NEW(s->lin_a, s->nE) || !NEW(s->lin_b, s->nE) || !NEW(s->lin_k, 3 * (size_t)s->nE) ||
-      !NEW(s->lin_g, s->nE) ||
+      !NEW(s->lin_g, s->nE) || !NEW(s->linx_j, s->nE) ||
       !NEW(s->gen_el, s->nE) || !NEW(s->Cconst, s->ns) || !NEW(s->flow_el, s->nE) ||
       !NEW(s->state_el, s->nE) || !NEW(s->root_el, s->nE) || !NEW(s->lin_of, s->nE))
     return FC_ENOMEM;
@@ -41,44 +41,35 @@ void fci_sys_linear_free(fci_sys *s)
   fc_free(s->ea); fc_free(s->eb); fc_free(s->lin_el); fc_free(s->lin_a); fc_free(s->lin_b);
   fc_free(s->lin_k); fc_free(s->gen_el); fc_free(s->Cconst); fc_free(s->flow_el);
   fc_free(s->state_el); fc_free(s->root_el); fc_free(s->aa0); fc_free(s->aa1);
-  fc_free(s->lin_of); fc_free(s->lin_g);
+  fc_free(s->lin_of); fc_free(s->lin_g); fc_free(s->linx_j);
 }
 
-/* Conductances first (in element order), then the other linear elements (in element order):
- * on a network of channels almost every element is a conductance, and flows() then reads one
- * coefficient per element (at 65 536 chambers the evaluation's streaming of coefficients was
- * the largest source of last-level cache misses, docs/performance.md). */
 void fci_sys_linear_refresh(fci_sys *s)
 {
   const fc_net *net = s->net;
-  s->nlin = s->ngen = s->ncond = 0;
-  for (int pass = 0; pass < 2; pass++)
-    for (int f = 0; f < s->nflow; f++) {
-      int i = s->flow_el[f];
-      const fc_elem *e = &net->elem[i];
-      double k[3];
-      if (e->nState || !e->type->xLinear || !e->type->xLinear(e, k)) {
-        if (pass == 0) {
-          s->lin_of[i] = -1;
-          s->gen_el[s->ngen++] = i;
-        }
-        continue;
-      }
-      int cond = k[0] == 0 && k[2] == -k[1];
-      if (cond != (pass == 0)) continue;
-      int j = s->nlin++;
-      s->ncond += cond;
-      s->lin_of[i] = j;
-      s->lin_el[j] = i;
-      s->lin_a[j] = e->node[0];
-      s->lin_b[j] = e->node[1];
-      s->lin_g[j] = k[1];
-      memcpy(s->lin_k + 3 * j, k, sizeof k);
-      /* The partials are constant too: set once here, not at every evaluation. */
-      s->dqa[i] = k[1];
-      s->dqb[i] = k[2];
-      memset(s->dqx + FCI_MAX_OWN * i, 0, FCI_MAX_OWN * sizeof *s->dqx);
+  s->nlin = s->ngen = s->nlinx = 0;
+  for (int f = 0; f < s->nflow; f++) {
+    int i = s->flow_el[f];
+    const fc_elem *e = &net->elem[i];
+    double k[3];
+    s->lin_of[i] = -1;
+    if (e->nState || !e->type->xLinear || !e->type->xLinear(e, k)) {
+      s->gen_el[s->ngen++] = i;
+      continue;
     }
+    int j = s->nlin++;
+    s->lin_of[i] = j;
+    s->lin_el[j] = i;
+    s->lin_a[j] = e->node[0];
+    s->lin_b[j] = e->node[1];
+    s->lin_g[j] = k[1];
+    if (!(k[0] == 0 && k[2] == -k[1])) s->linx_j[s->nlinx++] = j;
+    memcpy(s->lin_k + 3 * j, k, sizeof k);
+    /* The partials are constant too: set once here, not at every evaluation. */
+    s->dqa[i] = k[1];
+    s->dqb[i] = k[2];
+    memset(s->dqx + FCI_MAX_OWN * i, 0, FCI_MAX_OWN * sizeof *s->dqx);
+  }
   for (int k = 0; k < s->ns; k++) {
     double C = 0, c[3];
     for (int j = s->store_ptr[k]; j < s->store_ptr[k + 1] && C >= 0; j++) {
