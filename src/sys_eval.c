@@ -46,43 +46,50 @@ static void flow_one(fci_sys *s, double t, const double *x, int i)
   s->qin[e->node[1]] += f.q;
 }
 
-/* One linear element's flow: a conductance from its one coefficient, where (0 + g pa) - g pb is
- * k0 + k1 pa + k2 pb with k0 = 0, k2 = -k1 bit for bit (signed zeros included); the few
- * others (an open valve, with its offset) from their three. In element order, so the inflow
- * sums are what they always were. */
-static inline double lin_flow(const fci_sys *s, int j, int *x)
+/* Linear elements j0 <= j < j1, all conductances: (0 + g pa) - g pb is k0 + k1 pa + k2 pb with
+ * k0 = 0, k2 = -k1 bit for bit (signed zeros included), from one coefficient. */
+static void cond_flows(fci_sys *s, int j0, int j1)
 {
-  const double *p = s->p;
-  int a = s->lin_a[j], b = s->lin_b[j];
-  if (*x < s->nlinx && s->linx_j[*x] == j) {
-    const double *k = s->lin_k + 3 * (size_t)j;
-    ++*x;
-    return k[0] + k[1] * p[a] + k[2] * p[b];
-  }
-  return (0.0 + s->lin_g[j] * p[a]) - s->lin_g[j] * p[b];
-}
-
-static void flows(fci_sys *s, double t, const double *x)
-{
-  double *q = s->q, *qin = s->qin;
-  memset(qin, 0, (size_t)s->nN * sizeof *qin);
+  const double *p = s->p, *g = s->lin_g;
+  const int *la = s->lin_a, *lb = s->lin_b, *le = s->lin_el;
   const unsigned char *keep = s->qkeep;
-  int nx = 0;
+  double *q = s->q, *qin = s->qin;
   if (keep) /* the flows nobody reads are not stored: at 10^5 elements, megabytes per pass */
-    for (int j = 0; j < s->nlin; j++) {
-      int i = s->lin_el[j];
-      double v = lin_flow(s, j, &nx);
-      if (keep[i]) q[i] = v;
-      qin[s->lin_a[j]] -= v;
-      qin[s->lin_b[j]] += v;
+    for (int j = j0; j < j1; j++) {
+      double v = (0.0 + g[j] * p[la[j]]) - g[j] * p[lb[j]];
+      if (keep[le[j]]) q[le[j]] = v;
+      qin[la[j]] -= v;
+      qin[lb[j]] += v;
     }
   else
-    for (int j = 0; j < s->nlin; j++) {
-      double v = lin_flow(s, j, &nx);
-      q[s->lin_el[j]] = v;
-      qin[s->lin_a[j]] -= v;
-      qin[s->lin_b[j]] += v;
+    for (int j = j0; j < j1; j++) {
+      double v = (0.0 + g[j] * p[la[j]]) - g[j] * p[lb[j]];
+      q[le[j]] = v;
+      qin[la[j]] -= v;
+      qin[lb[j]] += v;
     }
+}
+
+/* The linear elements in element order, so that the inflow sums are what they always were:
+ * runs of conductances, and between them the few others (an open valve, with its offset)
+ * from their three coefficients. */
+static void flows(fci_sys *s, double t, const double *x)
+{
+  memset(s->qin, 0, (size_t)s->nN * sizeof *s->qin);
+  int j = 0;
+  for (int n = 0; n <= s->nlinx; n++) {
+    int end = n < s->nlinx ? s->linx_j[n] : s->nlin;
+    cond_flows(s, j, end);
+    if (n == s->nlinx) break;
+    j = end;
+    int a = s->lin_a[j], b = s->lin_b[j], i = s->lin_el[j];
+    const double *k = s->lin_k + 3 * (size_t)j;
+    double v = k[0] + k[1] * s->p[a] + k[2] * s->p[b];
+    if (!s->qkeep || s->qkeep[i]) s->q[i] = v;
+    s->qin[a] -= v;
+    s->qin[b] += v;
+    j++;
+  }
   for (int g = 0; g < s->ngen; g++) flow_one(s, t, x, s->gen_el[g]);
 }
 
