@@ -122,6 +122,15 @@ static int write_block(fc_csv_sink *c, int b)
   return 0;
 }
 
+/* The first failed write wins: its errno and the time of its block's first row. */
+static void note_failure(fc_csv_sink *c, int e, int b)
+{
+  if (e && !c->werr) {
+    c->werr = e;
+    c->werr_t = c->t0[b];
+  }
+}
+
 static void *writer(void *arg)
 {
   fc_csv_sink *c = arg;
@@ -133,7 +142,7 @@ static void *writer(void *arg)
     pthread_mutex_unlock(&c->mu);
     int e = failed ? 0 : write_block(c, b); /* after a failure the rest is dropped */
     pthread_mutex_lock(&c->mu);
-    if (e && !c->werr) { c->werr = e; c->werr_t = c->t0[b]; }
+    note_failure(c, e, b);
     c->pending--;
     c->wr = (c->wr + 1) % NBLOCK;
     pthread_cond_broadcast(&c->cv);
@@ -151,8 +160,7 @@ static int hand_over(fc_csv_sink *c)
   c->n = 0;
   if (!c->fill[b]) return c->werr;
   if (!c->threaded) {
-    int e = c->werr ? 0 : write_block(c, b);
-    if (e && !c->werr) { c->werr = e; c->werr_t = c->t0[b]; }
+    note_failure(c, c->werr ? 0 : write_block(c, b), b);
     return c->werr;
   }
   /* The writer still has blocks queued: the run formats this one itself, so that the
@@ -186,7 +194,6 @@ int fc_csv_sink_new(const fc_net *net, FILE *f, double p_factor, double q_factor
   c->f = f;
   c->pf = p_factor;
   c->qf = q_factor;
-  c->pending = 0;
   fputs("t [s]", f);
   for (int n = 0; n < net->nNode; n++) put_name(f, "p:", net->nodeName[n], p_unit);
   for (int i = 0; i < net->nElem; i++)

@@ -160,8 +160,7 @@ int fci_fmt_g9(char *buf, double v)
 {
   if (v == 0) { /* "0" or "-0", as printf writes them */
     int neg = signbit(v) != 0;
-    memcpy(buf, "-0", 3);
-    if (!neg) memcpy(buf, "0", 2);
+    memcpy(buf, neg ? "-0" : "0", (size_t)neg + 2);
     return 1 + neg;
   }
   if (!isfinite(v)) return slow(buf, v);

@@ -87,16 +87,16 @@ static int scope_points(fci_run *R)
     R->npt_el = n;
     for (int v = 0; v < N; v++) if (nd[v]) R->pt_nd[R->npt_nd++] = v;
     /* Without samples, the flows read after an evaluation are those of these lists (the
-     * quadratures, flow-sign roots, extremes and step integrals): the evaluation may leave
+     * quadratures and their flow-sign roots, the extremes and step integrals, the interior
+     * points' elements): the evaluation may leave
      * the others unstored (sys.h qkeep). The samples read every flow. Only on networks whose
      * per-element arrays outgrow the cache: below, the mask's load and branch cost more than
      * the stores they save (docs/performance.md, sixth round). */
     if (!(R->sink && R->sink->xSample) && E >= QKEEP_MIN_ELEMENTS) {
       if (!NEW(R->qkeep, E)) ok = -1;
+      /* sign_el is part of quad_el, st_el of ext_el (scope_init) */
       for (int l = 0; ok > 0 && l < R->nquad; l++) R->qkeep[R->quad_el[l]] = 1;
-      for (int l = 0; ok > 0 && l < R->nsign; l++) R->qkeep[R->sign_el[l]] = 1;
       for (int l = 0; ok > 0 && l < R->next_el; l++) R->qkeep[R->ext_el[l]] = 1;
-      for (int l = 0; ok > 0 && l < R->nst_el; l++) R->qkeep[R->st_el[l]] = 1;
       for (int l = 0; ok > 0 && l < n; l++) R->qkeep[R->pt_el[l]] = 1;
       if (ok > 0) R->sys->qkeep = R->qkeep;
     }

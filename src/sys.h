@@ -110,7 +110,7 @@ typedef struct fci_sys {
   int nlinx, *linx_j;       /* the linear elements that are not conductances (their lin_ index,
                              * ascending): flows() takes their k from lin_k */
   const unsigned char *qkeep; /* not NULL: a full evaluation stores the flow q[i] of a
-                               * linear element only where qkeep[i] (the run's "tracked" lists;
+                               * conductance only where qkeep[i] (the run's "tracked" lists;
                                * every other element's flow is never read, sim_run.c) */
   int ngen, *gen_el;        /* the other FLOW elements, evaluated through xFlow */
   int *lin_of;              /* per element: its index in the lin_ arrays, -1 if not linear */

@@ -72,24 +72,18 @@ static void cond_flows(fci_sys *s, int j0, int j1)
 
 /* The linear elements in element order, so that the inflow sums are what they always were:
  * runs of conductances, and between them the few others (an open valve, with its offset)
- * from their three coefficients. */
+ * through flow_one, from their three coefficients. */
 static void flows(fci_sys *s, double t, const double *x)
 {
   memset(s->qin, 0, (size_t)s->nN * sizeof *s->qin);
   int j = 0;
-  for (int n = 0; n <= s->nlinx; n++) {
-    int end = n < s->nlinx ? s->linx_j[n] : s->nlin;
-    cond_flows(s, j, end);
-    if (n == s->nlinx) break;
-    j = end;
-    int a = s->lin_a[j], b = s->lin_b[j], i = s->lin_el[j];
-    const double *k = s->lin_k + 3 * (size_t)j;
-    double v = k[0] + k[1] * s->p[a] + k[2] * s->p[b];
-    if (!s->qkeep || s->qkeep[i]) s->q[i] = v;
-    s->qin[a] -= v;
-    s->qin[b] += v;
-    j++;
+  for (int n = 0; n < s->nlinx; n++) {
+    int jx = s->linx_j[n];
+    cond_flows(s, j, jx);
+    flow_one(s, t, x, s->lin_el[jx]);
+    j = jx + 1;
   }
+  cond_flows(s, j, s->nlin);
   for (int g = 0; g < s->ngen; g++) flow_one(s, t, x, s->gen_el[g]);
 }
 
