@@ -252,6 +252,40 @@ static void write_file(const char *name, const char *text)
   fclose(f);
 }
 
+/* The phase within the period is C's fmod, bit for bit (fmod is exact, C11 F.10.7.1; the
+ * waveform reduces without calling it): a table that is the identity over one period returns
+ * the phase itself. Times at, just beside and between multiples of the period, up to 10^9
+ * periods, and past 2^52 periods (where the library's fmod is used). */
+static void phase_is_fmod_bit_for_bit(void **state)
+{
+  (void)state;
+  const double P = 0.37;
+  fc_waveform *w = wave("{\"shape\":\"table\",\"points\":[[0,0],[0.37,0.37]],\"period\":0.37}",
+                        FC_DIM_NONE);
+  uint64_t z = 88172645463325252u; /* xorshift64 (Marsaglia 2003) */
+  long mismatches = 0, n = 0;
+  for (int i = 0; i < 200000; i++) {
+    z ^= z << 13, z ^= z >> 7, z ^= z << 17;
+    double u = (double)(z >> 11) * 0x1p-53, t;
+    switch (i % 5) {
+    case 0: t = u * 1e3; break;
+    case 1: t = floor(u * 1e9) * P; break; /* a rounded multiple */
+    case 2: t = nextafter(floor(u * 1e6) * P, 0.0); break;
+    case 3: t = nextafter(floor(u * 1e6) * P, 1e300); break;
+    default: t = u * 0x1p53 * P; break; /* beyond 2^52 periods for half of these */
+    }
+    double want = fmod(t, P), got = fc_waveform_eval(w, t);
+    if (want >= P) continue; /* not reached: fmod's result lies in [0, P) */
+    n++;
+    if (memcmp(&want, &got, sizeof got)) {
+      if (mismatches++ < 5) print_error("t = %.17g: fmod %.17g, waveform %.17g\n", t, want, got);
+    }
+  }
+  assert_int_equal(n, 200000);
+  assert_int_equal(mismatches, 0);
+  fc_waveform_free(w);
+}
+
 static void table_from_csv_file(void **state)
 {
   (void)state;
@@ -379,6 +413,7 @@ int main(void)
     cmocka_unit_test(pulse_corners_are_ramp_ends),
     cmocka_unit_test(beat_half_sine_systole),
     cmocka_unit_test(table_interpolates_and_repeats),
+    cmocka_unit_test(phase_is_fmod_bit_for_bit),
     cmocka_unit_test(table_from_csv_file),
     cmocka_unit_test(table_sample_limit),
     cmocka_unit_test(bad_input_names_exact_paths),
