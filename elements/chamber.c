@@ -10,8 +10,8 @@
  *               thick-walled elastic tube, open ends (Lame; Timoshenko & Goodier),
  *               C = (2 pi a^2 L/E)[(b^2 + a^2)/(b^2 - a^2) + nu].
  * Optional backing_pressure p_back(t) [Pa waveform] acts on the far side of the compliant wall
- * (a driven membrane): the compliance then responds to p - p_back, C d(p - p_back)/dt = sum q,
- * i.e. qext = C dp_back/dt (src/elem.h). culture: true flags the chamber for reports.
+ * (a driven membrane): the compliance then responds to p - p_back, and the stored volume is
+ * V = C (p - p_back(t)) (src/elem.h). culture: true flags the chamber for reports.
  * Role STORE. Volumes: liquid taken up relative to p - p_back = 0. */
 #include <cjson/cJSON.h>
 #include <math.h>
@@ -159,12 +159,15 @@ static double compliance_at(const chamber_param *P, double dp, double *dC)
   return C;
 }
 
-static void chamber_store(const fc_elem *e, double t, double p, double *C, double *dC_dp,
-                          double *qext)
+static void chamber_store(const fc_elem *e, double t, double p, double *C, double *dC_dp)
 {
   const chamber_param *P = e->param;
+  if (P->kind != KIND_GAS) { /* constant: no need to read the backing waveform */
+    *dC_dp = 0.0;
+    *C = P->C;
+    return;
+  }
   *C = compliance_at(P, transmural(P, t, p), dC_dp);
-  *qext = P->back ? *C * fc_waveform_deriv(P->back, t) : 0.0;
 }
 
 static double chamber_volume(const fc_elem *e, double t, double p)

@@ -6,8 +6,9 @@
  *
  * The engine sees four roles, set per instance by xParse:
  *   FC_ROLE_FLOW   two terminals; flow q from -> to [m^3/s] = xFlow(t, pa, pb, own states)
- *   FC_ROLE_STORE  one terminal; a compliance C(p) [m^3/Pa] at its node, plus an injected volume
- *                  rate qext (a driven membrane: C d(p - p_back)/dt = sum q gives qext = C dp_back/dt)
+ *   FC_ROLE_STORE  one terminal; a compliance C(p) [m^3/Pa] at its node and its stored volume
+ *                  V(t, p) (a driven membrane: V = C (p - p_back(t)); the volume is the state, so
+ *                  the drive enters through V and needs no injected flow)
  *   FC_ROLE_FIX    one terminal; imposes the node pressure p(t) = xFix(t)
  *   FC_ROLE_LINK   two terminals; imposes p(to) - p(from) = xFix(t); its flow follows from
  *                  conservation at the driven node
@@ -24,7 +25,7 @@
 
 struct cJSON;
 
-#define FC_ELEM_V 2       /* version of fc_elem_type */
+#define FC_ELEM_V 3       /* version of fc_elem_type */
 #define FCI_MAX_OWN 4     /* most own ODE states one element may have */
 #define FCI_MAX_ROOT 4    /* most event functions one element may have */
 
@@ -111,9 +112,8 @@ struct fc_elem_type {
   int (*xRhs)(const fc_elem *e, double t, const double p[2], const double *x, double *dxdt,
               double *J);
 
-  /* STORE: compliance C(p) [m^3/Pa] > 0, its derivative dC/dp, and an injected volume rate
-   * qext [m^3/s] (0 unless the store is driven from outside). */
-  void (*xStore)(const fc_elem *e, double t, double p, double *C, double *dC_dp, double *qext);
+  /* STORE: compliance C(p) [m^3/Pa] > 0 and its derivative dC/dp. */
+  void (*xStore)(const fc_elem *e, double t, double p, double *C, double *dC_dp);
 
   /* STORE, optional: volume stored relative to 0 gauge, V(p) - V(0) [m^3] (conservation check,
    * exact for nonlinear compliances). For a driven store: relative to p - p_back(t). */

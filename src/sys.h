@@ -77,7 +77,7 @@ typedef struct fci_sys {
   double *dqx;              /* dq/dx_own, FCI_MAX_OWN per element */
   double *qin;              /* net inflow per node */
   double *Csum, *dCsum;     /* per store index: total compliance and its p-derivative */
-  double *zbuf;             /* nz: Newton update */
+  double *zbuf;             /* nz: Newton update; zbuf[nz] = 0 stands for a node that is not ALG */
   /* algebraic solve */
   fci_csc G;                /* dF/dz */
   int *gslot;               /* per element 4 slots in G (from/from, from/to, to/from, to/to) */
@@ -113,6 +113,9 @@ typedef struct fci_sys {
                                * conductance only where qkeep[i] (the run's "tracked" lists;
                                * every other element's flow is never read, sim_run.c) */
   int ngen, *gen_el;        /* the other FLOW elements, evaluated through xFlow */
+  int nupd, *upd_el, *upd_z; /* the FLOW elements (linear, then the others) at an ALG node, and
+                              * the zbuf index of each terminal (nz if not ALG), 2 each: the
+                              * only flows an algebraic update changes */
   int *lin_of;              /* per element: its index in the lin_ arrays, -1 if not linear */
   /* Index lists, so that the passes made at every evaluation visit only the elements they
    * concern instead of loading every element's struct (one cache line each, on a network

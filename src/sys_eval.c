@@ -87,24 +87,21 @@ static void flows(fci_sys *s, double t, const double *x)
   for (int g = 0; g < s->ngen; g++) flow_one(s, t, x, s->gen_el[g]);
 }
 
-/* After an update zbuf of the ALG pressures: q += dq/dpa dpa + dq/dpb dpb, inflows likewise. */
-static void update_flow(fci_sys *s, int i)
-{
-  int a = s->ea[i], b = s->eb[i];
-  double da = s->kind[a] == FCI_NODE_ALG ? s->zbuf[s->idx[a]] : 0;
-  double db = s->kind[b] == FCI_NODE_ALG ? s->zbuf[s->idx[b]] : 0;
-  if (da == 0 && db == 0) return;
-  double dq = s->dqa[i] * da + s->dqb[i] * db;
-  s->q[i] += dq;
-  s->qin[a] -= dq;
-  s->qin[b] += dq;
-}
-
-/* The FLOW elements are exactly the linear and the generic lists (src/sys_linear.c). */
+/* After an update zbuf of the ALG pressures: q += dq/dpa dpa + dq/dpb dpb, inflows likewise,
+ * for the FLOW elements at an ALG node (the others' pressures did not move), in the order of
+ * the linear and the generic lists (src/sys_linear.c), which keeps the inflow sums' order. */
 static void update_flows(fci_sys *s)
 {
-  for (int j = 0; j < s->nlin; j++) update_flow(s, s->lin_el[j]);
-  for (int g = 0; g < s->ngen; g++) update_flow(s, s->gen_el[g]);
+  const double *z = s->zbuf;
+  for (int u = 0; u < s->nupd; u++) {
+    int i = s->upd_el[u];
+    double da = z[s->upd_z[2 * u]], db = z[s->upd_z[2 * u + 1]];
+    if (da == 0 && db == 0) continue;
+    double dq = s->dqa[i] * da + s->dqb[i] * db;
+    s->q[i] += dq;
+    s->qin[s->ea[i]] -= dq;
+    s->qin[s->eb[i]] += dq;
+  }
 }
 
 /* Conservation F_i = qin at each ALG node; dF/dz from the element partials. */
@@ -208,8 +205,8 @@ static int store_pressure(fci_sys *s, double t, int k, double V)
     double C = 0, dC = 0, v = 0;
     for (int j = s->store_ptr[k]; j < s->store_ptr[k + 1]; j++) {
       const fc_elem *e = &s->net->elem[s->store_el[j]];
-      double c, dc, q;
-      e->type->xStore(e, t, *p, &c, &dc, &q);
+      double c, dc;
+      e->type->xStore(e, t, *p, &c, &dc);
       v += e->type->xVolume(e, t, *p);
       C += c;
       dC += dc;

@@ -170,7 +170,7 @@ int fci_sys_build(fc_net *net, fci_sys **out, fc_error *err)
   }
   if ((rc = fci_sys_classify(s, err)) || (rc = layout(s, err)) || (rc = build_patterns(s, err)))
     goto fail;
-  if (!NEW(s->Csum, s->ns) || !NEW(s->dCsum, s->ns) || !NEW(s->zbuf, s->nz) || !NEW(s->Cpre, s->ns) || !NEW(s->xlast, s->nx) ||
+  if (!NEW(s->Csum, s->ns) || !NEW(s->dCsum, s->ns) || !NEW(s->zbuf, s->nz + 1) || !NEW(s->Cpre, s->ns) || !NEW(s->xlast, s->nx) ||
       !NEW(s->abuf, s->nx + s->nz + 1) || !NEW(s->p2, s->nN) || !NEW(s->q2, s->nE) ||
       !NEW(s->qin2, s->nN) || !NEW(s->Csum2, s->ns) || !NEW(s->dCsum2, s->ns) || !NEW(s->xlast2, s->nx)) {
     rc = fc_fail(err, FC_ENOMEM, NULL, "out of memory");

@@ -21,7 +21,8 @@ int fci_sys_linear_build(fci_sys *s)
       !NEW(s->lin_a, s->nE) || !NEW(s->lin_b, s->nE) || !NEW(s->lin_k, 3 * (size_t)s->nE) ||
       !NEW(s->lin_g, s->nE) || !NEW(s->linx_j, s->nE) ||
       !NEW(s->gen_el, s->nE) || !NEW(s->Cconst, s->ns) || !NEW(s->flow_el, s->nE) ||
-      !NEW(s->state_el, s->nE) || !NEW(s->root_el, s->nE) || !NEW(s->lin_of, s->nE))
+      !NEW(s->state_el, s->nE) || !NEW(s->root_el, s->nE) || !NEW(s->lin_of, s->nE) ||
+      !NEW(s->upd_el, s->nE) || !NEW(s->upd_z, 2 * (size_t)s->nE))
     return FC_ENOMEM;
   s->nflow = s->nstate_el = s->nroot_el = 0;
   for (int i = 0; i < s->nE; i++) {
@@ -41,7 +42,7 @@ void fci_sys_linear_free(fci_sys *s)
   fc_free(s->ea); fc_free(s->eb); fc_free(s->lin_el); fc_free(s->lin_a); fc_free(s->lin_b);
   fc_free(s->lin_k); fc_free(s->gen_el); fc_free(s->Cconst); fc_free(s->flow_el);
   fc_free(s->state_el); fc_free(s->root_el); fc_free(s->aa0); fc_free(s->aa1);
-  fc_free(s->lin_of); fc_free(s->lin_g); fc_free(s->linx_j);
+  fc_free(s->lin_of); fc_free(s->lin_g); fc_free(s->linx_j); fc_free(s->upd_el); fc_free(s->upd_z);
 }
 
 void fci_sys_linear_refresh(fci_sys *s)
@@ -69,6 +70,16 @@ void fci_sys_linear_refresh(fci_sys *s)
     s->dqa[i] = k[1];
     s->dqb[i] = k[2];
     memset(s->dqx + FCI_MAX_OWN * i, 0, FCI_MAX_OWN * sizeof *s->dqx);
+  }
+  s->nupd = 0;
+  for (int u = 0; u < s->nlin + s->ngen; u++) {
+    int i = u < s->nlin ? s->lin_el[u] : s->gen_el[u - s->nlin], a = s->ea[i], b = s->eb[i];
+    int za = s->kind[a] == FCI_NODE_ALG ? s->idx[a] : s->nz;
+    int zb = s->kind[b] == FCI_NODE_ALG ? s->idx[b] : s->nz;
+    if (za == s->nz && zb == s->nz) continue;
+    s->upd_el[s->nupd] = i;
+    s->upd_z[2 * s->nupd] = za;
+    s->upd_z[2 * s->nupd++ + 1] = zb;
   }
   for (int k = 0; k < s->ns; k++) {
     double C = 0, c[3];

@@ -20,6 +20,7 @@
 
 #include <cjson/cJSON.h>
 #include <math.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -73,7 +74,7 @@ double fc_waveform_period(const fc_waveform *w) { return w->period; }
 static double fmod_pos(double x, double T)
 {
   if (!(x >= 0 && x < 0x1p52 * T)) return fmod(x, T);
-  double n = floor(x / T), r = fma(-n, T, x);
+  double n = (double)(int64_t)(x / T), r = fma(-n, T, x); /* truncation is floor here: 0 <= x / T < 2^52 */
   return r < 0 ? fma(-(n - 1), T, x) : r;
 }
 
