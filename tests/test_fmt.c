@@ -84,6 +84,27 @@ static void test_random_report_range(void **state)
 
 /* Near-ties: the double nearest to a 10-digit decimal ending in 5, and its neighbours, where
  * the 9-digit rounding is decided by the last bits (the formatter must defer to snprintf). */
+/* Nine significant digits 10^8 + n, for n on a stride of 73 through [0, 10^8) and for every n
+ * with one to seven trailing zeros on a coarser grid: as integers (every digit printed) and
+ * divided by 10^8 (1.nnnnnnnn: the trailing zeros dropped), so that each digit position and
+ * each count of trailing zeros is met. */
+static void nine_digits(uint32_t n)
+{
+  check(1e8 + n);
+  check((1e8 + n) / 1e8);
+}
+
+static void test_nine_significant_digits(void **state)
+{
+  (void)state;
+  mismatches = 0;
+  for (uint32_t n = 0; n < 100000000u; n += 73) nine_digits(n);
+  for (uint32_t z = 10; z <= 10000000u; z *= 10)
+    for (uint32_t n = 0; n < 100000000u; n += z * 9973u % 100000000u + z) nine_digits(n);
+  for (uint32_t n = 0; n < 1000; n++) nine_digits(n * 99999u);
+  assert_int_equal(mismatches, 0);
+}
+
 static void test_near_ties(void **state)
 {
   (void)state;
@@ -110,6 +131,7 @@ int main(void)
     cmocka_unit_test(test_special_values),
     cmocka_unit_test(test_random_bit_patterns),
     cmocka_unit_test(test_random_report_range),
+    cmocka_unit_test(test_nine_significant_digits),
     cmocka_unit_test(test_near_ties),
   };
   return cmocka_run_group_tests(tests, NULL, NULL);
