@@ -13,15 +13,36 @@
 struct fc_outfile {
   FILE *f;
   char *path;   /* destination */
-  char *tmp;    /* temporary beside it */
+  char *tmp;    /* temporary beside it; NULL: written in place (not a regular file) */
 };
+
+/* A destination that exists and is not a regular file (a FIFO, a terminal, /dev/null) is
+ * written in place: a temporary renamed over it would replace the device or the pipe by a
+ * plain file (as root, /dev/null itself), and such a destination cannot be made durable or
+ * left half-written anyway. A folder is an error before the run, not after it. */
+static int open_in_place(fc_outfile *o, const struct stat *st, fc_error *err)
+{
+  if (S_ISDIR(st->st_mode))
+    return fc_fail(err, FC_EIO, NULL, "cannot write output %s: it is a folder", o->path);
+  if (!(o->f = fopen(o->path, "w")))
+    return fc_fail(err, FC_EIO, NULL, "cannot open output %s: %s", o->path, strerror(errno));
+  setvbuf(o->f, NULL, _IOFBF, 1 << 16);
+  return FC_OK;
+}
 
 int fc_outfile_open(const char *path, fc_outfile **out, fc_error *err)
 {
   *out = NULL;
   fc_outfile *o = fc_calloc(1, sizeof *o);
   size_t n = strlen(path) + 32;
-  if (!o || !(o->path = fc_strdup(path)) || !(o->tmp = fc_malloc(n))) {
+  struct stat st;
+  if (o && (o->path = fc_strdup(path)) && stat(path, &st) == 0 && !S_ISREG(st.st_mode)) {
+    int rc = open_in_place(o, &st, err);
+    if (rc) { fc_free(o->path); fc_free(o); return rc; }
+    *out = o;
+    return FC_OK;
+  }
+  if (!o || !o->path || !(o->tmp = fc_malloc(n))) {
     if (o) { fc_free(o->path); fc_free(o); }
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
   }
@@ -52,15 +73,30 @@ static void drop(fc_outfile *o)
   fc_free(o);
 }
 
+/* Flushes and, for a temporary, syncs; 0 or -1 with errno set. */
+static int settle(fc_outfile *o)
+{
+  errno = 0;
+  if (ferror(o->f)) { if (!errno) errno = EIO; return -1; }
+  if (fflush(o->f) != 0) return -1;
+  return o->tmp && fsync(fileno(o->f)) != 0 ? -1 : 0;
+}
+
+static void remove_tmp(fc_outfile *o)
+{
+  if (o->tmp) unlink(o->tmp);
+}
+
 int fc_outfile_commit(fc_outfile *o, fc_error *err)
 {
-  int bad = ferror(o->f) || fflush(o->f) != 0 || fsync(fileno(o->f)) != 0;
+  int bad = settle(o) != 0;
   int e = errno;
   if (fclose(o->f) != 0 && !bad) { bad = 1; e = errno; }
-  if (!bad && rename(o->tmp, o->path) != 0) { bad = 1; e = errno; }
+  if (!bad && o->tmp && rename(o->tmp, o->path) != 0) { bad = 1; e = errno; }
   if (bad) {
-    unlink(o->tmp);
-    fc_fail(err, FC_EIO, NULL, "writing %s failed: %s; nothing was written", o->path, strerror(e));
+    remove_tmp(o);
+    fc_fail(err, FC_EIO, NULL, "writing %s failed: %s%s", o->path, strerror(e),
+            o->tmp ? "; nothing was written" : "");
     drop(o);
     return FC_EIO;
   }
@@ -75,19 +111,19 @@ int fc_outfile_commit_all(fc_outfile **o, int n, fc_error *err)
   int bad = -1, e = 0;
   for (int i = 0; i < n; i++) {
     if (!o[i]) continue;
-    int fail = ferror(o[i]->f) || fflush(o[i]->f) != 0 || fsync(fileno(o[i]->f)) != 0;
+    int fail = settle(o[i]) != 0;
     if (fail && bad < 0) { bad = i; e = errno ? errno : EIO; }
     if (fclose(o[i]->f) != 0 && bad < 0) { bad = i; e = errno; }
     o[i]->f = NULL;
   }
   for (int i = 0; i < n && bad < 0; i++)
-    if (o[i] && rename(o[i]->tmp, o[i]->path) != 0) { bad = i; e = errno; }
+    if (o[i] && o[i]->tmp && rename(o[i]->tmp, o[i]->path) != 0) { bad = i; e = errno; }
   if (bad >= 0)
     fc_fail(err, FC_EIO, NULL, "writing %s failed: %s; no output was written", o[bad]->path,
             strerror(e));
   for (int i = 0; i < n; i++) {
     if (!o[i]) continue;
-    if (bad >= 0) unlink(o[i]->tmp);
+    if (bad >= 0) remove_tmp(o[i]);
     drop(o[i]);
     o[i] = NULL;
   }
@@ -100,7 +136,7 @@ void fc_outfile_abort(fc_outfile *o)
 {
   if (!o) return;
   if (o->f) fclose(o->f);
-  unlink(o->tmp);
+  remove_tmp(o);
   drop(o);
 }
 
@@ -108,6 +144,11 @@ int fc_outfile_keep_partial(fc_outfile *o, const char *note, fc_error *err)
 {
   fprintf(o->f, "# %s\n", note);
   int bad = fclose(o->f) != 0;
+  if (!o->tmp) { /* in place: what was written stays where it went */
+    int rc = bad ? fc_fail(err, FC_EIO, NULL, "closing the output %s failed", o->path) : FC_OK;
+    drop(o);
+    return rc;
+  }
   size_t n = strlen(o->path) + 16;
   char *dst = fc_malloc(n);
   if (!dst) { unlink(o->tmp); drop(o); return fc_fail(err, FC_ENOMEM, NULL, "out of memory"); }

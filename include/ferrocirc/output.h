@@ -2,7 +2,9 @@
  *
  * fc_outfile writes to a temporary file in the destination's folder (so the final rename is
  * atomic on POSIX file systems) and renames it only on commit. Abort removes the temporary;
- * keep_partial renames it to "PATH.partial" for inspection. */
+ * keep_partial renames it to "PATH.partial" for inspection. A destination that exists and is
+ * not a regular file (a FIFO, /dev/null, a terminal) is written in place instead: no
+ * temporary, no sync, nothing renamed; a folder is refused at open. */
 #ifndef FERROCIRC_OUTPUT_H
 #define FERROCIRC_OUTPUT_H
 

@@ -96,5 +96,28 @@ no_leftovers "bad numeric options"
 expect 1 "cannot create output" -- run good.json -o no_dir/out.csv
 no_leftovers "an unwritable output"
 
+# an output that is a folder: refused before the run
+mkdir out_dir
+expect 1 "cannot write output out_dir: it is a folder" -- run good.json -o out_dir
+rmdir out_dir
+no_leftovers "an output that is a folder"
+
+# an output that exists and is not a regular file is written in place, not replaced by a
+# renamed temporary (which, as root, would turn /dev/null into a plain file): a FIFO stays a
+# FIFO, its reader gets the whole CSV, and no temporary is left
+mkfifo out.fifo
+cat out.fifo >fifo.csv &
+reader=$!
+expect 0 "" -- run good.json -o out.fifo --summary out.fifo.json
+if [ ! -p out.fifo ]; then
+  kill "$reader" 2>/dev/null; wait "$reader" 2>/dev/null # it never saw a writer
+  echo "FAIL: the FIFO output was replaced"; fails=$((fails + 1))
+elif ! wait "$reader"; then echo "FAIL: the FIFO reader failed"; fails=$((fails + 1))
+elif ! head -1 fifo.csv | grep -q '^t \[s\],'; then echo "FAIL: the FIFO reader got no CSV header"; fails=$((fails + 1))
+elif [ "$(tail -c 1 fifo.csv | od -An -c | tr -d ' ')" != '\n' ]; then echo "FAIL: the CSV through the FIFO is cut"; fails=$((fails + 1))
+else echo "ok: a FIFO output is written in place ($(wc -l <fifo.csv) lines)"; fi
+rm -f out.fifo fifo.csv out.fifo.json
+no_leftovers "a FIFO output"
+
 if [ "$fails" -ne 0 ]; then echo "$fails check(s) failed"; exit 1; fi
 echo "all CLI exit checks passed"
