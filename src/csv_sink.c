@@ -71,22 +71,20 @@ static void put_name(FILE *f, const char *prefix, const char *name, const char *
   if (quote) fputc('"', f);
 }
 
-static char *number(char *o, double v)
-{
-  *o++ = ',';
-  return o + fci_fmt_g9(o, v);
-}
-
-/* Formats block b into its text buffer. */
+/* Formats block b into its text buffer (on either thread: its scratch is on the stack). */
 static void format_block(fc_csv_sink *c, int b)
 {
   const double *r = c->blk[b];
   const int np = c->net->nNode, nv = np + c->nq;
   char *o = c->text[b];
+  double u[256]; /* a row's numbers in report units, a piece at a time */
   for (int i = 0; i < c->fill[b]; i++, r += c->width) {
     o += fci_fmt_g9(o, r[0]);
-    for (int k = 1; k <= np; k++) o = number(o, r[k] * c->pf + 0.0);
-    for (int k = np + 1; k <= nv; k++) o = number(o, r[k] * c->qf + 0.0);
+    for (int k0 = 1; k0 <= nv; k0 += 256) {
+      int m = nv + 1 - k0 < 256 ? nv + 1 - k0 : 256;
+      for (int j = 0; j < m; j++) u[j] = r[k0 + j] * (k0 + j <= np ? c->pf : c->qf) + 0.0;
+      o = fci_fmt_g9_list(o, u, m);
+    }
     for (int k = nv + 1; k < c->width; k++) {
       int m = (int)r[k];
       if (m >= 0 && m <= 9) { *o++ = ','; *o++ = (char)('0' + m); }

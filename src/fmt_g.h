@@ -13,6 +13,11 @@
  * removed), NUL-terminated; returns the length. buf holds at least FCI_FMT_G9_MAX bytes. */
 int fci_fmt_g9(char *buf, double v);
 
+/* The n numbers v[0..n-1], each after a comma, as fci_fmt_g9 writes them, from o on; returns
+ * the new end (not NUL-terminated). o has room for n * FCI_FMT_G9_MAX bytes. Faster than n
+ * calls: the digits of many numbers are found at once (src/fmt_g.c). */
+char *fci_fmt_g9_list(char *o, const double *v, int n);
+
 /* The P significant digits of c (10^(P-1) <= c < 10^P, P <= 17) with decimal exponent X,
  * laid out as "%.Pg" does (fixed or exponent form, trailing zeros removed); returns length. */
 int fci_fmt_layout(char *buf, int neg, uint64_t c, int P, int X);

@@ -105,6 +105,44 @@ static void test_nine_significant_digits(void **state)
   assert_int_equal(mismatches, 0);
 }
 
+/* fci_fmt_g9_list gives the bytes of fci_fmt_g9 (itself checked above against snprintf) for
+ * every number of a list, commas between: lists of every length around its chunk of 64, of
+ * values mixing the special cases that its first pass only flags (zeros of both signs,
+ * subnormals, infinities, NaN, exponents beyond 10^+-22, ties, values that round up to the
+ * next power of ten) with ordinary ones. */
+static void test_list_equals_single_numbers(void **state)
+{
+  (void)state;
+  static const double special[] = {0.0, -0.0, 5e-324, -2.2250738585072014e-308, HUGE_VAL,
+                                   -HUGE_VAL, NAN, 1e-30, -3e25, 999999999.5, 9.9999999995e-5,
+                                   0.5, 1e8, 1e9, 123456788.5, 1.0 / 3, 12345678.75,
+                                   -1234567.875 /* exact ties of the fast path */};
+  double v[300];
+  char got[300 * FCI_FMT_G9_MAX], want[300 * FCI_FMT_G9_MAX], one[FCI_FMT_G9_MAX];
+  long bad = 0;
+  for (int rep = 0; rep < 2000; rep++) {
+    int n = 1 + (int)(next() % 300);
+    for (int i = 0; i < n; i++) {
+      uint64_t u = next();
+      if (u % 5 == 0) v[i] = special[(u >> 8) % (sizeof special / sizeof special[0])];
+      else if (u % 5 == 1) memcpy(&v[i], &u, sizeof v[i]); /* any bit pattern */
+      else v[i] = ((u >> 9) & 1 ? -1 : 1) * pow(10.0, -6.0 + 12.0 * (double)(u >> 11) * 0x1p-53);
+    }
+    char *w = want;
+    for (int i = 0; i < n; i++) {
+      *w++ = ',';
+      int len = fci_fmt_g9(one, v[i]);
+      memcpy(w, one, (size_t)len);
+      w += len;
+    }
+    char *e = fci_fmt_g9_list(got, v, n);
+    if (e - got != w - want || memcmp(got, want, (size_t)(w - want)) != 0) {
+      if (bad++ < 3) print_error("list of %d numbers differs from single numbers\n", n);
+    }
+  }
+  assert_int_equal(bad, 0);
+}
+
 static void test_near_ties(void **state)
 {
   (void)state;
@@ -132,6 +170,7 @@ int main(void)
     cmocka_unit_test(test_random_bit_patterns),
     cmocka_unit_test(test_random_report_range),
     cmocka_unit_test(test_nine_significant_digits),
+    cmocka_unit_test(test_list_equals_single_numbers),
     cmocka_unit_test(test_near_ties),
   };
   return cmocka_run_group_tests(tests, NULL, NULL);
