@@ -102,22 +102,33 @@ static int on_event(void *ctx, double t, int elem, int a, int b, double dp)
   return 1;
 }
 
-static int sample(void *ctx, double t, const double *p, const double *q, const int *m);
-
 static fc_sim_sink bound;
 
-static int sample(void *ctx, double t, const double *p, const double *q, const int *m)
+/* A failed CSV row: the first one's errno and time name the output later. */
+static int csv_row_result(run_io *io, int bad, double t)
 {
-  run_io *io = ctx;
-  if (!io->sink) return 0;
-  errno = 0;
-  int bad = bound.xSample(bound.ctx, t, p, q, m);
   if (bad && !io->write_errno) {
     io->write_errno = errno ? errno : EIO;
     io->failed = io->csv;
     io->fail_t = t;
   }
   return bad;
+}
+
+static int sample(void *ctx, double t, const double *p, const double *q, const int *m)
+{
+  run_io *io = ctx;
+  if (!io->sink) return 0;
+  errno = 0;
+  return csv_row_result(io, bound.xSample(bound.ctx, t, p, q, m), t);
+}
+
+static int state(void *ctx, double t, const double *x, const int *m)
+{
+  run_io *io = ctx;
+  if (!io->sink) return 0;
+  errno = 0;
+  return csv_row_result(io, bound.xState(bound.ctx, t, x, m), t);
 }
 
 /* All outputs were opened before the run (so an unwritable folder stops it before any work);
@@ -169,7 +180,8 @@ static int simulate(fc_net *net, const fc_units *u, const run_args *a, fc_error 
     if (io.sink) fc_csv_sink_bind(io.sink, &bound);
     int show = !a->quiet && isatty(2);
     io.next_show = wall() + 0.5; /* short runs print nothing */
-    fc_sim_sink sink = {&io, io.sink ? sample : NULL, on_event, show ? progress : NULL};
+    fc_sim_sink sink = {&io, io.sink ? sample : NULL, on_event, show ? progress : NULL,
+                        io.sink && bound.xState ? state : NULL};
     rc = fc_sim_run(net, &sink, &r, err);
     /* the writer thread may still hold rows, and a failed write may only show now */
     double ft = 0;

@@ -10,7 +10,15 @@
  * is behind, the run formats its block itself before queueing it. The bytes are the
  * same as writing each row at once; only when a failed write is noticed changes (at the next
  * hand-over, or at fc_csv_sink_finish). Where no thread can be started, blocks are written by
- * the caller. */
+ * the caller.
+ *
+ * With the writer thread, the rows do not even hold pressures and flows: the run hands over
+ * its state at the sample time (the sim sink's xState), and whichever thread formats a block
+ * evaluates the network at each of its rows with an evaluation of its own (a second fci_sys
+ * over a copy of the element list, so that modes set for one row do not touch the run's). The
+ * evaluation at the samples was a third of the run's work on a nonlinear network with dense
+ * samples (docs/performance.md). Each block's evaluations start afresh (pressures from 0), so
+ * the bytes do not depend on which thread formatted the block. */
 #define _GNU_SOURCE /* sync_file_range (Linux) */
 #include <errno.h>
 #include <fcntl.h>
@@ -23,6 +31,7 @@
 #include "ferrocirc/output.h"
 #include "fmt_g.h"
 #include "net.h"
+#include "sys.h"
 
 /* Raw doubles per block: 256 kB, well inside L2 and L3. NBLOCK blocks in a ring, so that
  * neither thread waits for the other at each hand-over (a sleeping thread takes tens of
@@ -37,8 +46,16 @@ struct fc_csv_sink {
   int nq;
   int *scol;          /* elements with a state column */
   int ns;
-  int width;          /* doubles per raw row: t, pressures, flows, states */
+  int width;          /* doubles per raw row: t, pressures, flows, states; or, with evaluations
+                         (estate), t, the run's state x and the modes */
+  int estate;         /* rows hold states, evaluated when formatted */
+  struct {
+    fc_net net;       /* a copy of the network with elements of its own (their modes) */
+    fci_sys *sys;
+  } ev[2];            /* ev[0] for the writer thread, ev[1] for the run's own formatting */
   int rows;           /* rows per block */
+  size_t cap;         /* doubles per raw block */
+  int started;        /* a row was received: the kind of rows is settled */
   double *blk[NBLOCK]; /* raw rows: the run fills blk[cur], the writer empties them in turn */
   int fill[NBLOCK];   /* rows in each block when handed over */
   double t0[NBLOCK];  /* time of each block's first row */
@@ -71,21 +88,54 @@ static void put_name(FILE *f, const char *prefix, const char *name, const char *
   if (quote) fputc('"', f);
 }
 
-/* Formats block b into its text buffer (on either thread: its scratch is on the stack). */
-static void format_block(fc_csv_sink *c, int b)
+/* The pressures and flows of a row of states: the modes of the row on the copy's elements,
+ * then an evaluation. 0, or -1 if the network has no solution there. */
+static int evaluate(fc_csv_sink *c, int who, const double *r)
 {
-  const double *r = c->blk[b];
+  fc_net *net = &c->ev[who].net;
+  fci_sys *s = c->ev[who].sys;
+  const double *m = r + 1 + s->nx;
+  int changed = 0;
+  for (int k = 0; k < c->ns; k++) {
+    fc_elem *e = &net->elem[c->scol[k]];
+    if (e->mode != (int)m[k]) { e->mode = (int)m[k]; changed = 1; }
+  }
+  if (changed) fci_sys_invalidate(s);
+  return fci_sys_eval(s, r[0], s->nx ? r + 1 : NULL) ? -1 : 0;
+}
+
+/* Formats block b into its text buffer; who: 0 the writer thread, 1 the run (each has its
+ * evaluation, and its scratch is on the stack). 0, or -1 if a row of states has no solution. */
+static int format_block(fc_csv_sink *c, int b, int who)
+{
+  const double *r = c->blk[b], *p = NULL, *q = NULL;
   const int np = c->net->nNode, nv = np + c->nq;
+  const int nm = c->estate ? c->ev[who].sys->nx + 1 : 1 + nv; /* where the modes start */
   char *o = c->text[b];
   double u[256]; /* a row's numbers in report units, a piece at a time */
+  if (c->estate) { /* afresh: the Newton iterations start from the same point on either thread */
+    fci_sys *s = c->ev[who].sys;
+    memset(s->p, 0, (size_t)s->nN * sizeof *s->p);
+    fci_sys_invalidate(s);
+    p = s->p;
+    q = s->q;
+  }
   for (int i = 0; i < c->fill[b]; i++, r += c->width) {
+    if (c->estate && evaluate(c, who, r)) {
+      c->len[b] = (size_t)(o - c->text[b]);
+      return -1;
+    }
     o += fci_fmt_g9(o, r[0]);
     for (int k0 = 1; k0 <= nv; k0 += 256) {
       int m = nv + 1 - k0 < 256 ? nv + 1 - k0 : 256;
-      for (int j = 0; j < m; j++) u[j] = r[k0 + j] * (k0 + j <= np ? c->pf : c->qf) + 0.0;
+      for (int j = 0; j < m; j++) {
+        int k = k0 + j;
+        double raw = !c->estate ? r[k] : k <= np ? p[k - 1] : q[c->qcol[k - np - 1]];
+        u[j] = raw * (k <= np ? c->pf : c->qf) + 0.0;
+      }
       o = fci_fmt_g9_list(o, u, m);
     }
-    for (int k = nv + 1; k < c->width; k++) {
+    for (int k = nm; k < nm + c->ns; k++) {
       int m = (int)r[k];
       if (m >= 0 && m <= 9) { *o++ = ','; *o++ = (char)('0' + m); }
       else o += snprintf(o, 13, ",%d", m);
@@ -93,13 +143,16 @@ static void format_block(fc_csv_sink *c, int b)
     *o++ = '\n';
   }
   c->len[b] = (size_t)(o - c->text[b]);
+  return 0;
 }
 
 /* Writes block b, formatting it first unless the run already did; returns 0 or an errno
  * value. */
 static int write_block(fc_csv_sink *c, int b)
 {
-  if (!c->len[b]) format_block(c, b);
+  /* a row of states without a solution: the interpolated state between two step ends where
+   * the network was solved, so not met in practice; reported as a failed write at its block */
+  if (!c->len[b] && format_block(c, b, 0)) { c->len[b] = 0; return EDOM; }
   size_t len = c->len[b];
   c->len[b] = 0;
   errno = 0;
@@ -166,7 +219,7 @@ static int hand_over(fc_csv_sink *c)
   pthread_mutex_lock(&c->mu);
   if (c->pending >= 2) {
     pthread_mutex_unlock(&c->mu);
-    format_block(c, b);
+    if (format_block(c, b, 1)) c->len[b] = 0; /* the writer meets it again and reports it */
     pthread_mutex_lock(&c->mu);
   }
   c->pending++;
@@ -176,6 +229,45 @@ static int hand_over(fc_csv_sink *c)
   pthread_mutex_unlock(&c->mu);
   c->cur = (c->cur + 1) % NBLOCK;
   return e;
+}
+
+static void evaluations_free(fc_csv_sink *c)
+{
+  for (int k = 0; k < 2; k++) {
+    fci_sys_free(c->ev[k].sys);
+    c->ev[k].sys = NULL;
+    fc_free(c->ev[k].net.elem);
+    c->ev[k].net.elem = NULL;
+  }
+}
+
+/* Rows of values (xSample) from now on: where there is no writer thread, or where the caller
+ * hands over values instead of states. */
+static void use_values(fc_csv_sink *c)
+{
+  c->estate = 0;
+  evaluations_free(c);
+  c->width = 1 + c->net->nNode + c->nq + c->ns;
+  c->rows = (int)(c->cap / (size_t)c->width);
+}
+
+/* The two evaluations (see the top): returns the state length nx, or -1 where they cannot be
+ * built (then the rows hold values, evaluated by the run). The run builds the same system
+ * from the same network, so a network that fails here fails there, with its message. */
+static int evaluations_new(fc_csv_sink *c)
+{
+  fc_error e2;
+  for (int k = 0; k < 2; k++) {
+    c->ev[k].net = *c->net; /* shares names, parameters and options, all read-only */
+    c->ev[k].net.elem = fc_malloc((size_t)c->net->nElem * sizeof *c->net->elem);
+    if (c->ev[k].net.elem)
+      memcpy(c->ev[k].net.elem, c->net->elem, (size_t)c->net->nElem * sizeof *c->net->elem);
+    if (!c->ev[k].net.elem || fci_sys_build(&c->ev[k].net, &c->ev[k].sys, &e2)) {
+      evaluations_free(c);
+      return -1;
+    }
+  }
+  return c->ev[0].sys->nx;
 }
 
 int fc_csv_sink_new(const fc_net *net, FILE *f, double p_factor, double q_factor,
@@ -205,15 +297,18 @@ int fc_csv_sink_new(const fc_net *net, FILE *f, double p_factor, double q_factor
       put_name(f, "state:", net->elem[i].id, NULL);
     }
   fputc('\n', f);
-  c->width = 1 + net->nNode + c->nq + c->ns;
-  c->rows = BLOCK_BYTES / (int)sizeof(double) / c->width;
-  if (c->rows < 1) c->rows = 1;
+  /* Raw blocks of BLOCK_BYTES, or of one row where a row is larger, in either kind of row. */
+  int nx = evaluations_new(c), wv = 1 + net->nNode + c->nq + c->ns, ws = 1 + nx + c->ns;
+  c->cap = (size_t)BLOCK_BYTES / sizeof(double);
+  if (c->cap < (size_t)wv) c->cap = (size_t)wv;
+  if (nx >= 0 && c->cap < (size_t)ws) c->cap = (size_t)ws;
+  int rmax = (int)(c->cap / (size_t)wv); /* the most rows of either kind a block holds */
+  if (nx >= 0 && (int)(c->cap / (size_t)ws) > rmax) rmax = (int)(c->cap / (size_t)ws);
   /* every number: a comma and at most FCI_FMT_G9_MAX - 1 characters; modes: 12 each */
   size_t line = ((size_t)net->nNode + (size_t)c->nq + 1) * FCI_FMT_G9_MAX + (size_t)c->ns * 12 + 2;
-  size_t raw = (size_t)c->rows * (size_t)c->width;
   for (int b = 0; b < NBLOCK; b++)
-    if (!(c->blk[b] = fc_malloc(raw * sizeof(double))) ||
-        !(c->text[b] = fc_malloc(line * (size_t)c->rows))) {
+    if (!(c->blk[b] = fc_malloc(c->cap * sizeof(double))) ||
+        !(c->text[b] = fc_malloc(line * (size_t)rmax))) {
       fc_csv_sink_free(c);
       return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
     }
@@ -224,6 +319,11 @@ int fc_csv_sink_new(const fc_net *net, FILE *f, double p_factor, double q_factor
     }
     if (!c->threaded) pthread_mutex_destroy(&c->mu);
   }
+  c->estate = c->threaded && nx >= 0;
+  if (c->estate) {
+    c->width = ws;
+    c->rows = (int)(c->cap / (size_t)ws);
+  } else use_values(c); /* no thread: rows of values, as the run evaluates anyway */
   *out = c;
   return FC_OK;
 }
@@ -255,6 +355,7 @@ void fc_csv_sink_free(fc_csv_sink *c)
     c->n = 0; /* drop what was not handed over */
     fc_csv_sink_finish(c, NULL);
   }
+  evaluations_free(c);
   fc_free(c->qcol);
   fc_free(c->scol);
   for (int b = 0; b < NBLOCK; b++) {
@@ -267,6 +368,11 @@ void fc_csv_sink_free(fc_csv_sink *c)
 static int row(void *ctx, double t, const double *p, const double *q, const int *mode)
 {
   fc_csv_sink *c = ctx;
+  if (c->estate) { /* values after all: states and values do not mix in one file */
+    if (c->started) { errno = EINVAL; return -1; }
+    use_values(c);
+  }
+  c->started = 1;
   double *r = c->blk[c->cur] + (size_t)c->n * (size_t)c->width;
   const int np = c->net->nNode;
   if (!c->n) c->t0[c->cur] = t;
@@ -282,10 +388,30 @@ static int row(void *ctx, double t, const double *p, const double *q, const int 
   return e ? -1 : 0;
 }
 
+/* A row of states (estate): the run's state and the modes, evaluated when formatted. */
+static int row_state(void *ctx, double t, const double *x, const int *mode)
+{
+  fc_csv_sink *c = ctx;
+  if (!c->estate) { errno = EINVAL; return -1; }
+  c->started = 1;
+  double *r = c->blk[c->cur] + (size_t)c->n * (size_t)c->width;
+  const int nx = c->ev[0].sys->nx;
+  if (!c->n) c->t0[c->cur] = t;
+  r[0] = t;
+  if (nx) memcpy(r + 1, x, (size_t)nx * sizeof *x);
+  r += 1 + nx;
+  for (int k = 0; k < c->ns; k++) r[k] = mode[c->scol[k]];
+  if (++c->n < c->rows) return 0;
+  int e = hand_over(c);
+  if (e) errno = e;
+  return e ? -1 : 0;
+}
+
 void fc_csv_sink_bind(fc_csv_sink *c, fc_sim_sink *sink)
 {
   sink->ctx = c;
   sink->xSample = row;
+  sink->xState = c->estate ? row_state : NULL;
 }
 
 int fc_events_csv_header(FILE *f, const char *p_unit)

@@ -482,7 +482,7 @@ static int integrate(cv *c, fci_run *R, fc_error *err)
     if (R->nq && CVodeGetQuad(c->mem, &tq, c->yq)) { rc = FC_ESOLVE; break; }
     for (int k = 0; k < R->nq; k++) c->qtot[k] = c->qacc[k] + NV_Ith_S(c->yq, k);
     double ts;
-    int want = R->sink && R->sink->xSample; /* no sink: samples cost nothing */
+    int want = R->sink && (R->sink->xSample || R->sink->xState); /* no sink: samples cost nothing */
     while (!rc && fci_run_pending_sample(R, t, &ts)) {
       if (!want) continue;
       if (CVodeGetDky(c->mem, ts, 0, c->ytmp)) { rc = fc_fail(err, FC_ESOLVE, NULL, "interpolation at t = %.9g s failed", ts); break; }

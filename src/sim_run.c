@@ -233,6 +233,15 @@ static int emit(fci_run *R, double t, fc_error *err)
   return FC_OK;
 }
 
+/* The state and the modes to a sink that evaluates (t, x) itself (xState). */
+static int emit_state(fci_run *R, double t, const double *x, fc_error *err)
+{
+  for (int k = 0; k < R->nmode; k++) R->modes[R->mode_el[k]] = R->net->elem[R->mode_el[k]].mode;
+  if (R->sink->xState(R->sink->ctx, t, R->sys->nx ? x : NULL, R->modes))
+    return fc_fail(err, FC_EIO, NULL, "writing the sample at t = %.9g s failed", t);
+  return FC_OK;
+}
+
 /* some = 1: the interior-point evaluation of "tracked" statistics (scope_points), where possible */
 static int eval_or_fail_at(fci_run *R, double t, const double *x, int some, fc_error *err)
 {
@@ -276,7 +285,7 @@ int fci_run_begin(fci_run *R, const double *yq, fc_error *err)
   fci_steps_left(R);
   R->next_sample = 1;
   R->t_prev = 0;
-  return emit(R, 0.0, err);
+  return R->sink && R->sink->xState ? emit_state(R, 0.0, R->x0, err) : emit(R, 0.0, err);
 }
 
 double fci_run_next_stop(const fci_run *R, double t, int *kind)
@@ -328,6 +337,7 @@ int fci_run_pending_sample(fci_run *R, double t, double *ts)
 
 int fci_run_sample(fci_run *R, double ts, const double *x, fc_error *err)
 {
+  if (R->sink->xState) return emit_state(R, ts, x, err);
   int rc = eval_or_fail(R, ts, x, err);
   return rc ? rc : emit(R, ts, err);
 }

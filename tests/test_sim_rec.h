@@ -106,7 +106,7 @@ static inline void run_json(run *R, const char *json)
   }
   R->r.nN = fc_net_node_count(R->net);
   R->r.nE = fc_net_elem_count(R->net);
-  fc_sim_sink sink = {&R->r, rec_sample, NULL, NULL};
+  fc_sim_sink sink = {&R->r, rec_sample, NULL, NULL, NULL};
   R->rc_sim = fc_sim_run(R->net, &sink, &R->res, &R->err);
   if (R->rc_sim)
     fprintf(stderr, "run: %s: %s (%s)\n", R->err.path, R->err.msg, fc_error_name(R->rc_sim));

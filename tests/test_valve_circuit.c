@@ -74,7 +74,7 @@ static vrun *vrun_json(const char *json)
   }
   V->r.nN = fc_net_node_count(V->net);
   V->r.nE = fc_net_elem_count(V->net);
-  fc_sim_sink sink = {V, vr_sample, vr_event, NULL};
+  fc_sim_sink sink = {V, vr_sample, vr_event, NULL, NULL};
   V->rc_sim = fc_sim_run(V->net, &sink, &V->res, &V->err);
   if (V->rc_sim)
     print_message("run: %s: %s (%s)\n", V->err.path, V->err.msg, fc_error_name(V->rc_sim));

@@ -23,6 +23,11 @@ typedef struct fc_sim_sink {
   int (*xEvent)(void *ctx, double t, int elem, int a, int b, double dp);
   /* Optional: called after every internal step with the time reached (progress display). */
   void (*xProgress)(void *ctx, double t);
+  /* Optional, internal (the CSV writer, src/csv_sink.c): called instead of xSample with the
+   * state at the sample time, x in the engine's order (src/sys.h; NULL if there is none), and
+   * mode[nElem]; the sink evaluates the network at (t, x) itself, with an evaluation of its
+   * own, so that the run need not. */
+  int (*xState)(void *ctx, double t, const double *x, const int *mode);
 } fc_sim_sink;
 
 typedef struct fc_sim_stats {
