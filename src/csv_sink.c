@@ -16,8 +16,8 @@
  * its state at the sample time (the sim sink's xState), and whichever thread formats a block
  * evaluates the network at each of its rows with an evaluation of its own (a second fci_sys
  * over a copy of the element list, so that modes set for one row do not touch the run's). The
- * evaluation at the samples was a third of the run's work on a nonlinear network with dense
- * samples (docs/performance.md). Each block's evaluations start afresh (pressures from 0), so
+ * evaluations at the samples were a quarter of the run's instructions on pump loops sampled
+ * every millisecond (docs/performance.md). Each block's evaluations start afresh (pressures from 0), so
  * the bytes do not depend on which thread formatted the block. */
 #define _GNU_SOURCE /* sync_file_range (Linux) */
 #include <errno.h>
@@ -365,6 +365,15 @@ void fc_csv_sink_free(fc_csv_sink *c)
   fc_free(c);
 }
 
+/* A row is complete: a full block goes to the writer. 0, or -1 with errno of a failed write. */
+static int row_end(fc_csv_sink *c)
+{
+  if (++c->n < c->rows) return 0;
+  int e = hand_over(c);
+  if (e) errno = e;
+  return e ? -1 : 0;
+}
+
 static int row(void *ctx, double t, const double *p, const double *q, const int *mode)
 {
   fc_csv_sink *c = ctx;
@@ -382,10 +391,7 @@ static int row(void *ctx, double t, const double *p, const double *q, const int 
   for (int k = 0; k < c->nq; k++) r[k] = q[c->qcol[k]];
   r += c->nq;
   for (int k = 0; k < c->ns; k++) r[k] = mode[c->scol[k]];
-  if (++c->n < c->rows) return 0;
-  int e = hand_over(c);
-  if (e) errno = e;
-  return e ? -1 : 0;
+  return row_end(c);
 }
 
 /* A row of states (estate): the run's state and the modes, evaluated when formatted. */
@@ -401,10 +407,7 @@ static int row_state(void *ctx, double t, const double *x, const int *mode)
   if (nx) memcpy(r + 1, x, (size_t)nx * sizeof *x);
   r += 1 + nx;
   for (int k = 0; k < c->ns; k++) r[k] = mode[c->scol[k]];
-  if (++c->n < c->rows) return 0;
-  int e = hand_over(c);
-  if (e) errno = e;
-  return e ? -1 : 0;
+  return row_end(c);
 }
 
 void fc_csv_sink_bind(fc_csv_sink *c, fc_sim_sink *sink)
