@@ -162,12 +162,8 @@ static double compliance_at(const chamber_param *P, double dp, double *dC)
 static void chamber_store(const fc_elem *e, double t, double p, double *C, double *dC_dp)
 {
   const chamber_param *P = e->param;
-  if (P->kind != KIND_GAS) { /* constant: no need to read the backing waveform */
-    *dC_dp = 0.0;
-    *C = P->C;
-    return;
-  }
-  *C = compliance_at(P, transmural(P, t, p), dC_dp);
+  /* only a gas pocket's compliance depends on the pressure: the others need no backing waveform */
+  *C = compliance_at(P, P->kind == KIND_GAS ? transmural(P, t, p) : p, dC_dp);
 }
 
 static double chamber_volume(const fc_elem *e, double t, double p)

@@ -156,7 +156,9 @@ static int layout9(char *buf, int neg, uint32_t r, int X)
   return (int)(o - buf);
 }
 
-int fci_fmt_g9(char *buf, double v)
+/* fci_fmt_g9 for every value, with a branch wherever the value asks for one: zeros, non-finite
+ * values, scalings beyond exact powers of ten, ties (see the top). */
+static int g9_general(char *buf, double v)
 {
   if (v == 0) { /* "0" or "-0", as printf writes them */
     int neg = signbit(v) != 0;
@@ -191,15 +193,48 @@ int fci_fmt_g9(char *buf, double v)
   return layout9(buf, neg, r, X);
 }
 
-/* A list of numbers, in two passes over chunks of it. The first finds each number's nine
- * digits r and exponent X exactly as fci_fmt_g9 does, but without a branch that depends on the
- * value: both candidate scalings are formed and one is selected, and whatever fci_fmt_g9 would
- * treat specially (zero, subnormal, infinite or NaN, 10^k not exact, an estimate of X off the
- * other way, a fraction of exactly 1/2) is only flagged. Its iterations are independent, so the
- * processor overlaps many of them instead of waiting out each number's chain of dependent
- * operations (one number through fci_fmt_g9 is a chain of about 40 cycles). The second pass
- * lays the digits out, and hands the flagged numbers to fci_fmt_g9 itself. The bytes are
- * fci_fmt_g9's (tests/test_fmt.c). */
+/* The nine digits r and the exponent X of v as g9_general finds them, without a branch that
+ * depends on the value: both candidate scalings are formed and one is selected. Returns 1,
+ * leaving r and X meaningless, for whatever g9_general treats specially (zero, subnormal,
+ * infinite or NaN, 10^k not exact, an estimate of X off the other way, a fraction of exactly
+ * 1/2); those are rare in a CSV. */
+static inline int digits_fast(double v, uint32_t *r, int *xp)
+{
+  uint64_t bits, b1, b0;
+  double d = fabs(v), s1, s0, s;
+  memcpy(&bits, &v, sizeof bits);
+  int e = (int)(bits >> 52 & 0x7ff);
+  int X = (e - 1023) * 1233 >> 12; /* floor((e2 - 1) log10 2) as in g9_general (arithmetic shift) */
+  int k = 8 - X, kc = k < 1 ? 1 : k > 22 ? 22 : k;
+  s1 = d * p10[kc];
+  s0 = d * p10[kc - 1];
+  uint64_t up = s1 >= 1e9;
+  memcpy(&b1, &s1, 8);
+  memcpy(&b0, &s0, 8);
+  b1 ^= (b1 ^ b0) & (0 - up);
+  memcpy(&s, &b1, 8);
+  X += (int)up;
+  uint32_t fl = (uint32_t)(s < 1e9 ? s : 0); /* in range whatever s is */
+  double frac = s - (double)fl;
+  uint32_t q = fl + (frac > 0.5);
+  uint32_t carry = q >= 1000000000u;
+  *r = carry ? 100000000u : q;
+  *xp = X + (int)carry;
+  return (e == 0) | (e == 0x7ff) | (k != kc) | !(s >= 1e8 - 0.5) | !(s < 1e9) | (frac == 0.5);
+}
+
+int fci_fmt_g9(char *buf, double v)
+{
+  uint32_t r;
+  int X;
+  return digits_fast(v, &r, &X) ? g9_general(buf, v) : layout9(buf, signbit(v) != 0, r, X);
+}
+
+/* A list of numbers, in two passes over chunks of it. The first finds each number's digits
+ * and exponent (digits_fast) and only flags the rare ones it leaves; its iterations are
+ * independent, so the processor overlaps many of them instead of waiting out each number's
+ * chain of dependent operations (about 40 cycles). The second pass lays the digits out, and
+ * hands the flagged numbers to g9_general. The bytes are fci_fmt_g9's (tests/test_fmt.c). */
 enum { CHUNK = 64 };
 
 char *fci_fmt_g9_list(char *o, const double *v, int n)
@@ -210,33 +245,12 @@ char *fci_fmt_g9_list(char *o, const double *v, int n)
   for (int c0 = 0; c0 < n; c0 += CHUNK) {
     int m = n - c0 < CHUNK ? n - c0 : CHUNK;
     for (int i = 0; i < m; i++) {
-      uint64_t bits, b1, b0;
-      double d = fabs(v[c0 + i]), s1, s0, s;
-      memcpy(&bits, &v[c0 + i], sizeof bits);
-      int e = (int)(bits >> 52 & 0x7ff);
-      int X = (e - 1023) * 1233 >> 12; /* floor((e2 - 1) log10 2) as in fci_fmt_g9 (arithmetic shift) */
-      int k = 8 - X, kc = k < 1 ? 1 : k > 22 ? 22 : k;
-      s1 = d * p10[kc];
-      s0 = d * p10[kc - 1];
-      uint64_t up = s1 >= 1e9;
-      memcpy(&b1, &s1, 8);
-      memcpy(&b0, &s0, 8);
-      b1 ^= (b1 ^ b0) & (0 - up);
-      memcpy(&s, &b1, 8);
-      X += (int)up;
-      uint32_t fl = (uint32_t)(s < 1e9 ? s : 0); /* in range whatever s is */
-      double frac = s - (double)fl;
-      uint32_t q = fl + (frac > 0.5);
-      uint32_t carry = q >= 1000000000u;
-      r[i] = carry ? 100000000u : q;
-      x[i] = X + (int)carry;
-      neg[i] = (unsigned char)(bits >> 63);
-      odd[i] = (unsigned char)((e == 0) | (e == 0x7ff) | (k != kc) | !(s >= 1e8 - 0.5) |
-                               !(s < 1e9) | (frac == 0.5));
+      odd[i] = (unsigned char)digits_fast(v[c0 + i], &r[i], &x[i]);
+      neg[i] = (unsigned char)(signbit(v[c0 + i]) != 0);
     }
     for (int i = 0; i < m; i++) {
       *o++ = ',';
-      o += odd[i] ? fci_fmt_g9(o, v[c0 + i]) : layout9(o, neg[i], r[i], x[i]);
+      o += odd[i] ? g9_general(o, v[c0 + i]) : layout9(o, neg[i], r[i], x[i]);
     }
   }
   return o;

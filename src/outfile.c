@@ -119,8 +119,8 @@ int fc_outfile_commit_all(fc_outfile **o, int n, fc_error *err)
   for (int i = 0; i < n && bad < 0; i++)
     if (o[i] && o[i]->tmp && rename(o[i]->tmp, o[i]->path) != 0) { bad = i; e = errno; }
   if (bad >= 0)
-    fc_fail(err, FC_EIO, NULL, "writing %s failed: %s; no output was written", o[bad]->path,
-            strerror(e));
+    fc_fail(err, FC_EIO, NULL, "writing %s failed: %s%s", o[bad]->path, strerror(e),
+            o[bad]->tmp ? "; no output was written" : "");
   for (int i = 0; i < n; i++) {
     if (!o[i]) continue;
     if (bad >= 0) remove_tmp(o[i]);

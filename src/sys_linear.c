@@ -72,7 +72,7 @@ void fci_sys_linear_refresh(fci_sys *s)
     memset(s->dqx + FCI_MAX_OWN * i, 0, FCI_MAX_OWN * sizeof *s->dqx);
   }
   s->nupd = 0;
-  for (int u = 0; u < s->nlin + s->ngen; u++) {
+  for (int u = 0; s->nz && u < s->nlin + s->ngen; u++) { /* only with ALG nodes */
     int i = u < s->nlin ? s->lin_el[u] : s->gen_el[u - s->nlin], a = s->ea[i], b = s->eb[i];
     int za = s->kind[a] == FCI_NODE_ALG ? s->idx[a] : s->nz;
     int zb = s->kind[b] == FCI_NODE_ALG ? s->idx[b] : s->nz;

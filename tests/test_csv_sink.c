@@ -138,6 +138,7 @@ static void rows_of_states_are_the_runs_pressures_and_flows(void **state)
 
   int nN = A.r.nN, nE = A.r.nE, nq = 0, switches = 0;
   int qel[16];
+  assert_true(nE <= 16);
   for (int i = 0; i < nE; i++) if (A.net->elem[i].nTerm == 2) qel[nq++] = i;
   double pmax = 0, qmax = 0;
   for (size_t k = 0; k < A.r.n * (size_t)nN; k++) pmax = fmax(pmax, fabs(A.r.p[k]));
