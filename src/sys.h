@@ -28,6 +28,7 @@
 #include <klu.h>
 
 #include "net.h"
+#include "sys_lu.h"
 
 enum { FCI_NODE_ALG = 0, FCI_NODE_STORE, FCI_NODE_FIXED };
 
@@ -89,7 +90,11 @@ typedef struct fci_sys {
   int *aslot;               /* slot per stamped entry, consumed in stamp order */
   int naslot;
   fci_klu ak;
-  int afactored;
+  int afactored;            /* 1: ak holds a factorisation KLU can refactor */
+  int lu_want;              /* 1: every column's largest entry is its diagonal (sys_layout.c),
+                             * so the Newton matrix is factored without pivoting (sys_lu.h) */
+  fci_lu *lu;               /* built at the first set-up that wants it */
+  int lu_on;                /* 1: the last factorisation is lu's, 0: KLU's (ak) */
   double *abuf;             /* nx + nz */
   double *Cpre;             /* per store index: compliance at the last Newton-matrix factorisation */
   long nGfact, nAfact;      /* factorisations done, for statistics */

@@ -379,9 +379,23 @@ static int setup(fci_sys *s, double t, const double *x, double gamma, int steady
   memcpy(s->Cpre, s->Csum, (size_t)s->ns * sizeof *s->Cpre);
   if (steady || !s->aff_able || stamp_affine(s, t, x, gamma)) stamp_aug(s, t, x, gamma, steady);
   s->nAfact++;
+  if (s->lu_want && !s->lu && !(s->lu = fci_lu_new(s->A.n, s->A.colptr, s->A.rowind)))
+    s->lu_want = 0; /* heavy fill-in, or out of memory here: KLU */
+  s->lu_on = s->lu_want && fci_lu_factor(s->lu, s->A.val) == FC_OK;
+  if (s->lu_on) return 0;
   int rc = fci_klu_factor(&s->ak, &s->A, s->afactored);
   s->afactored = (rc == FC_OK);
   return rc ? 1 : 0;
+}
+
+/* Solve with the last factorisation of the Newton matrix, ours or KLU's. */
+static int asolve(fci_sys *s, double *b)
+{
+  if (s->lu_on) {
+    fci_lu_solve(s->lu, b);
+    return FC_OK;
+  }
+  return fci_klu_solve(&s->ak, &s->A, b);
 }
 
 int fci_sys_ksetup(fci_sys *s, double t, const double *x, double gamma)
@@ -405,7 +419,7 @@ int fci_sys_psolve(fci_sys *s, double *r)
   double *b = s->abuf;
   memcpy(b, r, (size_t)s->nx * sizeof *r);
   for (int i = 0; i < s->nz; i++) b[s->nx + i] = 0;
-  if (fci_klu_solve(&s->ak, &s->A, b)) return 1;
+  if (asolve(s, b)) return 1;
   /* Store rows were solved for pressure changes; the states are volumes: dV = C dp. */
   for (int k = 0; k < s->nx; k++) r[k] = k < s->ns ? s->Cpre[k] * b[k] : b[k];
   return 0;
@@ -430,7 +444,7 @@ int fci_sys_steady(fci_sys *s, double t, double *x, fc_error *err)
       e->type->xRhs(e, t, pp, x + e->iState, b + e->iState, J);
     }
     for (int i = 0; i < s->nz; i++) b[s->nx + i] = 0;
-    if (fci_klu_solve(&s->ak, &s->A, b))
+    if (asolve(s, b))
       return fc_fail(err, FC_ESOLVE, "$.simulation.initial", "steady-state solve failed");
     for (int k = 0; k < s->nx; k++) {
       double ref = k < s->ns ? fabs(s->p[s->xnode[k]] + b[k]) + s->net->sim.abs_tol_p

@@ -193,6 +193,9 @@ int fci_sys_build(fc_net *net, fci_sys **out, fc_error *err)
       goto fail;
     }
     s->ak.common.scale = 0;
+    /* The same diagonal is every pivot, so the pivots can be fixed (sys_lu.h); KLU stays for
+     * a factorisation whose pivots go bad (a non-passive element, or one too weak). */
+    s->lu_want = 1;
   }
   *out = s;
   return FC_OK;
@@ -206,6 +209,7 @@ void fci_sys_free(fci_sys *s)
   if (!s) return;
   fci_klu_free(&s->gk);
   fci_klu_free(&s->ak);
+  fci_lu_free(s->lu);
   fci_krylov_free(s->kr);
   fci_csc_free(&s->G);
   fci_csc_free(&s->A);

@@ -1,0 +1,293 @@
+/* The fixed-pivot sparse LU of the Newton matrix (src/sys_lu.c). Reference: KLU (SuiteSparse,
+ * Davis & Palamadai Natarajan 2010), a general-purpose sparse solver with partial pivoting,
+ * called directly here, and the residual of each solve. Matrices: column diagonally dominant
+ * with the structure of compliant networks (diag(C) + gamma times an asymmetric, passive
+ * conductance pattern) on a tree (no fill-in) and on a grid (fill-in), and the cases the LU
+ * must refuse so that the caller pivots: a zero pivot, pivots spanning more than 1e13, and a
+ * pattern so dense that its update list would outgrow the factors. */
+#include <math.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <setjmp.h>
+#include <cmocka.h>
+#include <klu.h>
+
+#include "ferrocirc/alloc.h"
+#include "net.h"
+#include "sys.h"
+#include "test_rng.h"
+#include "test_sim_rec.h"
+
+enum { MAXE = 20000 };
+
+typedef struct trip {
+  int n, m;
+  int r[MAXE], c[MAXE], slot[MAXE];
+  double v[MAXE];
+} trip;
+
+static void add(trip *t, int r, int c, double v)
+{
+  assert_true(t->m < MAXE);
+  t->r[t->m] = r;
+  t->c[t->m] = c;
+  t->v[t->m++] = v;
+}
+
+static double uniform(uint64_t *s, double lo, double hi)
+{
+  return lo + (hi - lo) * (double)(test_rng_next(s) >> 11) * 0x1p-53;
+}
+
+/* An element between a and b whose flow rises with the upstream pressure (g1 > 0) and falls
+ * with the downstream one (g2 > 0), g1 != g2: columns stay diagonally dominant, the values
+ * are not symmetric. */
+static void edge(trip *t, uint64_t *s, int a, int b)
+{
+  double g1 = uniform(s, 0.1, 10), g2 = uniform(s, 0.1, 10);
+  add(t, a, a, g1); add(t, b, a, -g1);
+  add(t, a, b, -g2); add(t, b, b, g2);
+}
+
+static void compliances(trip *t, uint64_t *s)
+{
+  for (int i = 0; i < t->n; i++) add(t, i, i, uniform(s, 1e-3, 1));
+}
+
+/* CSC matrix of the triplets (duplicates summed). */
+static void assemble(trip *t, fci_csc *A)
+{
+  assert_int_equal(fci_csc_build(A, t->n, t->m, t->r, t->c, t->slot), FC_OK);
+  for (int k = 0; k < t->m; k++) A->val[t->slot[k]] += t->v[k];
+}
+
+/* x = A \ b by KLU, the reference. */
+static void klu_reference(const fci_csc *A, double *x)
+{
+  klu_common c;
+  klu_defaults(&c);
+  klu_symbolic *S = klu_analyze(A->n, A->colptr, A->rowind, &c);
+  assert_non_null(S);
+  klu_numeric *N = klu_factor(A->colptr, A->rowind, A->val, S, &c);
+  assert_non_null(N);
+  assert_true(klu_solve(S, N, A->n, 1, x, &c));
+  klu_free_numeric(&N, &c);
+  klu_free_symbolic(&S, &c);
+}
+
+/* Factor and solve with fci_lu; compare with KLU and check the residual. */
+static void solve_and_compare(const fci_csc *A, fci_lu *f, uint64_t *s)
+{
+  int n = A->n;
+  double *b = calloc((size_t)n, sizeof *b), *x = calloc((size_t)n, sizeof *x),
+         *y = calloc((size_t)n, sizeof *y);
+  assert_int_equal(fci_lu_factor(f, A->val), FC_OK);
+  for (int i = 0; i < n; i++) b[i] = x[i] = y[i] = uniform(s, -1, 1);
+  fci_lu_solve(f, x);
+  klu_reference(A, y);
+  double worst = 0, res = 0, scale = 0;
+  for (int i = 0; i < n; i++) {
+    worst = fmax(worst, fabs(x[i] - y[i]) / (fabs(y[i]) + 1e-300));
+    scale = fmax(scale, fabs(b[i]));
+  }
+  for (int j = 0; j < n; j++)
+    for (int p = A->colptr[j]; p < A->colptr[j + 1]; p++) b[A->rowind[p]] -= A->val[p] * x[j];
+  for (int i = 0; i < n; i++) res = fmax(res, fabs(b[i]));
+  assert_true(worst < 1e-10);
+  assert_true(res < 1e-12 * scale);
+  free(b); free(x); free(y);
+}
+
+/* New values on the same pattern (off-diagonals scaled by 0.5-2, diagonals by 3, so the
+ * columns stay dominant): nothing of the previous factorisation, fill-in included, may survive. */
+static void revalue(fci_csc *A, uint64_t *s)
+{
+  for (int j = 0; j < A->n; j++)
+    for (int p = A->colptr[j]; p < A->colptr[j + 1]; p++)
+      A->val[p] *= A->rowind[p] == j ? 3 : uniform(s, 0.5, 2);
+}
+
+/* Factor t's matrix, solve twice (values renewed in between), return the factors' entries
+ * over the matrix's off-diagonal entries (1: no fill-in). */
+static double factor_twice(trip *t, uint64_t *s)
+{
+  compliances(t, s);
+  fci_csc A;
+  assemble(t, &A);
+  fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind);
+  assert_non_null(f);
+  double fill = (double)fci_lu_nnz(f) / (A.nnz - A.n);
+  solve_and_compare(&A, f, s);
+  revalue(&A, s);
+  solve_and_compare(&A, f, s);
+  fci_lu_free(f);
+  fci_csc_free(&A);
+  return fill;
+}
+
+static void tree_solution_matches_klu(void **state)
+{
+  (void)state;
+  static trip t;
+  uint64_t s = 0x9e3779b97f4a7c15u;
+  t.n = 1023; t.m = 0;
+  for (int i = 1; i < t.n; i++) edge(&t, &s, (i - 1) / 2, i); /* a binary tree */
+  assert_true(factor_twice(&t, &s) == 1.0); /* a tree fills in nothing */
+}
+
+static void grid_with_fill_in_matches_klu(void **state)
+{
+  (void)state;
+  static trip t;
+  uint64_t s = 0x2545f4914f6cdd1du;
+  int M = 24;
+  t.n = M * M; t.m = 0;
+  for (int i = 0; i < M; i++)
+    for (int j = 0; j < M; j++) {
+      if (j + 1 < M) edge(&t, &s, i * M + j, i * M + j + 1);
+      if (i + 1 < M) edge(&t, &s, i * M + j, (i + 1) * M + j);
+    }
+  assert_true(factor_twice(&t, &s) > 2); /* fill-in is exercised */
+}
+
+static void zero_pivot_is_refused(void **state)
+{
+  (void)state;
+  static trip t;
+  t.n = 2; t.m = 0;
+  add(&t, 0, 0, 0.0); add(&t, 1, 0, 1.0); add(&t, 0, 1, 1.0); add(&t, 1, 1, 1.0);
+  fci_csc A;
+  assemble(&t, &A);
+  fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind);
+  assert_non_null(f);
+  assert_int_equal(fci_lu_factor(f, A.val), FC_ESOLVE); /* KLU would swap the rows */
+  A.val[0] = NAN;
+  assert_int_equal(fci_lu_factor(f, A.val), FC_ESOLVE);
+  fci_lu_free(f);
+  fci_csc_free(&A);
+}
+
+static void pivots_spanning_1e13_are_refused(void **state)
+{
+  (void)state;
+  static trip t;
+  t.n = 3; t.m = 0;
+  add(&t, 0, 0, 1.0); add(&t, 1, 1, 1.0); add(&t, 2, 2, 1e-14); add(&t, 1, 2, 0.0);
+  fci_csc A;
+  assemble(&t, &A);
+  fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind);
+  assert_non_null(f);
+  assert_int_equal(fci_lu_factor(f, A.val), FC_ESOLVE);
+  A.val[A.colptr[2] + 1] = 1e-12; /* within the bound: accepted */
+  assert_int_equal(fci_lu_factor(f, A.val), FC_OK);
+  fci_lu_free(f);
+  fci_csc_free(&A);
+}
+
+static void dense_pattern_is_left_to_klu(void **state)
+{
+  (void)state;
+  static trip t;
+  t.n = 140; t.m = 0;
+  for (int i = 0; i < t.n; i++)
+    for (int j = 0; j < t.n; j++) add(&t, i, j, i == j ? t.n : 1.0 / (1 + i + j));
+  fci_csc A;
+  assemble(&t, &A);
+  assert_null(fci_lu_new(A.n, A.colptr, A.rowind));
+  fci_csc_free(&A);
+}
+
+static void every_failed_allocation_unwinds(void **state)
+{
+  (void)state;
+  static trip t;
+  uint64_t s = 7;
+  t.n = 63; t.m = 0;
+  for (int i = 1; i < t.n; i++) edge(&t, &s, (i - 1) / 2, i);
+  compliances(&t, &s);
+  fci_csc A;
+  assemble(&t, &A);
+  fci_lu *f = NULL;
+  int k = 0;
+  for (; !f && k < 100; k++) {
+    fc_alloc_fail_after(k);
+    f = fci_lu_new(A.n, A.colptr, A.rowind);
+    fc_alloc_fail_after(-1);
+  }
+  assert_non_null(f);
+  assert_true(k > 10); /* the loop did meet failures on its way (leaks: the ASan run) */
+  solve_and_compare(&A, f, &s);
+  fci_lu_free(f);
+  fci_csc_free(&A);
+}
+
+/* A valve-fed tree whose every node has compliance (two levels of junctions, four leaves):
+ * the system takes the fixed-pivot LU, and its Newton solves equal KLU's (through the system's
+ * own KLU path) in both valve modes and over nine decades of gamma. */
+#define LEAF(k, R) "{\"id\":\"l" #k "\",\"type\":\"resistor\",\"from\":\"h" #k "\",\"to\":\"out\"," \
+  "\"resistance\":" #R "},{\"id\":\"c" #k "\",\"type\":\"chamber\",\"node\":\"h" #k "\",\"compliance\":3e-15},"
+#define SPLIT(a, b, R) "{\"id\":\"s" #a #b "\",\"type\":\"resistor\",\"from\":\"" #a "\",\"to\":\"" #b "\"," \
+  "\"resistance\":" #R "},"
+static const char NET[] =
+  "{\"format\":\"ferrocirc-network/1\",\"fluid\":{\"density\":1000,\"viscosity\":0.001},"
+  "\"elements\":["
+  "{\"id\":\"feed\",\"type\":\"reservoir\",\"node\":\"in\",\"pressure\":\"12 mbar\"},"
+  "{\"id\":\"pre\",\"type\":\"resistor\",\"from\":\"in\",\"to\":\"up\",\"resistance\":5e11},"
+  "{\"id\":\"cup\",\"type\":\"chamber\",\"node\":\"up\",\"compliance\":4e-16},"
+  "{\"id\":\"chk\",\"type\":\"check_valve\",\"from\":\"up\",\"to\":\"r\",\"crack_forward\":\"2 mbar\","
+  "\"reseat_forward\":\"1 mbar\",\"crack_reverse\":\"1 bar\",\"open_resistance\":3e10},"
+  "{\"id\":\"cr\",\"type\":\"chamber\",\"node\":\"r\",\"compliance\":2e-16},"
+  SPLIT(r, m0, 1e11) SPLIT(r, m1, 2e11)
+  "{\"id\":\"cm0\",\"type\":\"chamber\",\"node\":\"m0\",\"compliance\":1e-16},"
+  "{\"id\":\"cm1\",\"type\":\"chamber\",\"node\":\"m1\",\"compliance\":1e-16},"
+  SPLIT(m0, h0, 4e11) SPLIT(m0, h1, 6e11) SPLIT(m1, h2, 5e11) SPLIT(m1, h3, 7e11)
+  LEAF(0, 2e12) LEAF(1, 3e12) LEAF(2, 4e12) LEAF(3, 5e12)
+  "{\"id\":\"waste\",\"type\":\"reservoir\",\"node\":\"out\",\"pressure\":0}],"
+  "\"simulation\":{\"duration\":1}}";
+
+static void newton_solves_equal_klu_in_both_valve_modes(void **state)
+{
+  (void)state;
+  fc_error err = {0};
+  fc_net *net = NULL;
+  fci_sys *s = NULL;
+  assert_int_equal(fc_net_load_buffer(NET, sizeof NET - 1, "tree.json", ".", g_units, &net, &err), FC_OK);
+  assert_int_equal(fci_sys_build(net, &s, &err), FC_OK);
+  assert_int_equal(s->lu_want, 1);
+  double x[16] = {0}, r1[16], r2[16];
+  assert_int_equal(s->nx, 8); /* up, r, m0, m1 and the four leaves */
+  for (int mode = 0; mode < 2; mode++) {
+    for (int i = 0; i < net->nElem; i++)
+      if (net->elem[i].nRoot) { net->elem[i].mode = mode; fci_sys_invalidate(s); }
+    for (int k = 0; k < s->nx; k++) x[k] = 1e-12 * (k + 1);
+    for (double g = 1e-6; g < 2; g *= 37) {
+      for (int k = 0; k < s->nx; k++) r1[k] = r2[k] = sin(1.0 + k) * 1e-13;
+      assert_int_equal(fci_sys_psetup(s, 0.1, x, g), 0);
+      assert_int_equal(s->lu_on, 1);
+      assert_int_equal(fci_sys_psolve(s, r1), 0);
+      s->lu_want = 0;
+      assert_int_equal(fci_sys_psetup(s, 0.1, x, g), 0);
+      assert_int_equal(s->lu_on, 0);
+      assert_int_equal(fci_sys_psolve(s, r2), 0);
+      s->lu_want = 1;
+      for (int k = 0; k < s->nx; k++) assert_true(fabs(r1[k] - r2[k]) <= 1e-12 * fabs(r2[k]));
+    }
+  }
+  fci_sys_free(s);
+  fc_net_free(net);
+}
+
+int main(void)
+{
+  const struct CMUnitTest tests[] = {
+    cmocka_unit_test(tree_solution_matches_klu),
+    cmocka_unit_test(grid_with_fill_in_matches_klu),
+    cmocka_unit_test(zero_pivot_is_refused),
+    cmocka_unit_test(pivots_spanning_1e13_are_refused),
+    cmocka_unit_test(dense_pattern_is_left_to_klu),
+    cmocka_unit_test(every_failed_allocation_unwinds),
+    cmocka_unit_test(newton_solves_equal_klu_in_both_valve_modes),
+  };
+  return cmocka_run_group_tests(tests, units_setup, units_teardown);
+}
