@@ -8,7 +8,7 @@
  * rest of ferrocirc and do the same floating-point operations in the same order as the serial
  * module (including its special cases for coefficients 1 and -1, and the fall-backs the generic
  * layer uses for the fused operations), so results are bit for bit those of the library's own
- * kernels. */
+ * kernels; the WRMS norm alone sums in four parts, which can move its last bits. */
 #ifndef FERROCIRC_NVEC_FAST_H
 #define FERROCIRC_NVEC_FAST_H
 
