@@ -203,6 +203,18 @@ static int scale_array(int nvec, realtype *c, N_Vector *X, N_Vector *Z)
   return 0;
 }
 
+WIDE int fci_nvec_ewt(sunindextype n, const double *y, const double *atol, const double *wscale,
+                      double rtol, double *w)
+{
+  int bad = 0;
+  for (sunindextype k = 0; k < n; k++) {
+    double d = rtol * fabs(y[k]) + atol[k];
+    bad |= !(d > 0);
+    w[k] = wscale[k] / d;
+  }
+  return bad ? -1 : 0;
+}
+
 void fci_nvec_fast(N_Vector v)
 {
   N_Vector_Ops o = v->ops;

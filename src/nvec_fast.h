@@ -19,4 +19,10 @@
  * integrator. v must be a serial vector. */
 void fci_nvec_fast(N_Vector v);
 
+/* CVODE's error weights, w = wscale / (rtol |y| + atol) (its default weights, scaled; sim.c
+ * ewt_fn says why), for n states in the kernels' wide build: a division each, at every step.
+ * -1 if a denominator is not positive (CVODE then stops: tolerances cannot be met), else 0. */
+int fci_nvec_ewt(sunindextype n, const double *y, const double *atol, const double *wscale,
+                 double rtol, double *w);
+
 #endif

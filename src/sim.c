@@ -284,14 +284,8 @@ static int set_qatol(cv *c, const fci_run *R)
 static int ewt_fn(N_Vector y, N_Vector ewt, void *ud)
 {
   const fci_run *R = ud;
-  const double rtol = R->net->sim.rel_tol, *yd = NV_DATA_S(y);
-  double *w = NV_DATA_S(ewt);
-  for (sunindextype k = 0, n = NV_LENGTH_S(y); k < n; k++) {
-    double d = rtol * fabs(yd[k]) + R->atol[k];
-    if (!(d > 0)) return -1;
-    w[k] = R->wscale[k] / d;
-  }
-  return 0;
+  return fci_nvec_ewt(NV_LENGTH_S(y), NV_DATA_S(y), R->atol, R->wscale, R->net->sim.rel_tol,
+                      NV_DATA_S(ewt));
 }
 
 static int set_weights(fci_run *R, int n)

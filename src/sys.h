@@ -130,6 +130,9 @@ typedef struct fci_sys {
   int nroot_el, *root_el;   /* elements with root functions */
   double *Cconst;           /* per store index: its constant total compliance, 0 if not all
                                of its elements are constant */
+  double *Cinv;             /* 1 / Cconst (0 where Cconst is): pressures are formed at every
+                             * evaluation, and a division costs 8-10 times a multiplication's
+                             * throughput (p = V / C to within an ulp either way) */
   int ldirty;               /* 1: re-read the coefficients (a mode switched) */
   /* Affine Newton matrix: where every FLOW element is linear in its mode, no element has own
    * states and every compliance is constant, A(gamma) = aa0 + gamma aa1 exactly until a mode

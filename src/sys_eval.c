@@ -195,8 +195,8 @@ void fci_sys_invalidate(fci_sys *s)
 static int store_pressure(fci_sys *s, double t, int k, double V)
 {
   double *p = &s->p[s->xnode[k]], last = INFINITY;
-  if (s->Cconst[k] > 0) { /* constant compliances: V = C p exactly */
-    *p = V / s->Cconst[k];
+  if (s->Cconst[k] > 0) { /* constant compliances: V = C p, p = V (1/C) to an ulp */
+    *p = V * s->Cinv[k];
     s->Csum[k] = s->Cconst[k];
     s->dCsum[k] = 0;
     return 0;
@@ -230,8 +230,8 @@ static int store_pressure(fci_sys *s, double t, int k, double V)
 static int pressures(fci_sys *s, double t, const double *x)
 {
   fixed_pressures(s, t);
-  if (s->all_const) { /* V = C p exactly; Csum and dCsum were set with Cconst */
-    for (int k = 0; k < s->ns; k++) s->p[s->xnode[k]] = x[k] / s->Cconst[k];
+  if (s->all_const) { /* V = C p as above; Csum and dCsum were set with Cconst */
+    for (int k = 0; k < s->ns; k++) s->p[s->xnode[k]] = x[k] * s->Cinv[k];
     return 0;
   }
   for (int k = 0; k < s->ns; k++)

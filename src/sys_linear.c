@@ -20,7 +20,7 @@ int fci_sys_linear_build(fci_sys *s)
   if (!NEW(s->ea, s->nE) || !NEW(s->eb, s->nE) || !NEW(s->lin_el, s->nE) ||
       !NEW(s->lin_a, s->nE) || !NEW(s->lin_b, s->nE) || !NEW(s->lin_k, 3 * (size_t)s->nE) ||
       !NEW(s->lin_g, s->nE) || !NEW(s->linx_j, s->nE) ||
-      !NEW(s->gen_el, s->nE) || !NEW(s->Cconst, s->ns) || !NEW(s->flow_el, s->nE) ||
+      !NEW(s->gen_el, s->nE) || !NEW(s->Cconst, s->ns) || !NEW(s->Cinv, s->ns) || !NEW(s->flow_el, s->nE) ||
       !NEW(s->state_el, s->nE) || !NEW(s->root_el, s->nE) || !NEW(s->lin_of, s->nE) ||
       !NEW(s->upd_el, s->nE) || !NEW(s->upd_z, 2 * (size_t)s->nE))
     return FC_ENOMEM;
@@ -40,7 +40,7 @@ int fci_sys_linear_build(fci_sys *s)
 void fci_sys_linear_free(fci_sys *s)
 {
   fc_free(s->ea); fc_free(s->eb); fc_free(s->lin_el); fc_free(s->lin_a); fc_free(s->lin_b);
-  fc_free(s->lin_k); fc_free(s->gen_el); fc_free(s->Cconst); fc_free(s->flow_el);
+  fc_free(s->lin_k); fc_free(s->gen_el); fc_free(s->Cconst); fc_free(s->Cinv); fc_free(s->flow_el);
   fc_free(s->state_el); fc_free(s->root_el); fc_free(s->aa0); fc_free(s->aa1);
   fc_free(s->lin_of); fc_free(s->lin_g); fc_free(s->linx_j); fc_free(s->upd_el); fc_free(s->upd_z);
 }
@@ -89,6 +89,7 @@ void fci_sys_linear_refresh(fci_sys *s)
       else C = -1;
     }
     s->Cconst[k] = C > 0 ? C : 0;
+    s->Cinv[k] = C > 0 ? 1.0 / C : 0;
   }
   s->all_const = 1;
   for (int k = 0; k < s->ns && s->all_const; k++) s->all_const = s->Cconst[k] > 0;
