@@ -168,9 +168,12 @@ int fci_run_init(fci_run *R, fc_net *net, const fc_sim_sink *sink, fc_error *err
   }
   R->nroot_all = s->nroot + R->nsign;
   if (!NEW(R->rootsfound, R->nroot_all) || !NEW(R->qpn, net->nNode) ||
-      fci_steps_init(&R->steps, net->nNode, E, s->ns))
+      !NEW(R->qp_node, net->nNode) || fci_steps_init(&R->steps, net->nNode, E, s->ns))
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
-  for (int n = 0; n < net->nNode; n++) R->qpn[n] = s->kind[n] == FCI_NODE_FIXED ? R->nq++ : -1;
+  for (int n = 0; n < net->nNode; n++) {
+    R->qpn[n] = s->kind[n] == FCI_NODE_FIXED ? R->nq++ : -1;
+    if (R->qpn[n] >= 0) R->qp_node[R->nqp++] = n;
+  }
   if (!NEW(R->vq_cycle, R->nq) || !NEW(R->qmag, R->nq) || !NEW(R->qtmp, R->nq) || scope_init(R))
     return fc_fail(err, FC_ENOMEM, NULL, "out of memory");
   R->dt = net->sim.sample_interval;
@@ -189,7 +192,7 @@ void fci_run_free(fci_run *R)
   fc_free(R->qkeep);
   fc_free(R->qoff); fc_free(R->quad_el); fc_free(R->qbuf); fc_free(R->modes); fc_free(R->corner_el);
   fc_free(R->rootsfound); fc_free(R->sign_el); fc_free(R->sign_side); fc_free(R->x0); fc_free(R->v0); fc_free(R->vq_cycle);
-  fc_free(R->qpn); fc_free(R->qmag); fc_free(R->qtmp);
+  fc_free(R->qpn); fc_free(R->qp_node); fc_free(R->qmag); fc_free(R->qtmp);
   fc_free(R->rep_el); fc_free(R->rep_node); fc_free(R->st_el); fc_free(R->ext_el);
   fc_free(R->st_node); fc_free(R->st_store); fc_free(R->pt_el); fc_free(R->pt_nd);
   fci_steps_free(&R->steps);
@@ -217,7 +220,7 @@ void fci_run_quad_rhs(const fci_run *R, double *dq)
     dq[o] = s->q[i];
     dq[o + 1] = s->q[i] < 0 ? -s->q[i] : 0;
   }
-  for (int n = 0; n < s->nN; n++) if (R->qpn[n] >= 0) dq[R->qpn[n]] = s->p[n];
+  for (int j = 0; j < R->nqp; j++) dq[R->qpn[R->qp_node[j]]] = s->p[R->qp_node[j]];
 }
 
 static int emit(fci_run *R, double t, fc_error *err)

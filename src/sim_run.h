@@ -28,6 +28,8 @@ typedef struct fci_run {
   int *quad_el, nquad;       /* the elements with quadratures, so the per-step pass visits only them */
   int *qpn;                  /* per node: offset of its pressure quadrature, -1 if the node is
                                 not imposed (then from the dense output) */
+  int *qp_node, nqp;         /* the imposed nodes, in the order of their quadratures (qpn), so
+                                the quadratures' pass does not visit every node */
   double *qmag;              /* per quadrature: largest |integrand| seen (tolerance scale) */
   double *qtmp;              /* per quadrature: integrands, work */
   fci_steps steps;

@@ -358,10 +358,9 @@ static void stamp_parts(fci_sys *s, double t, const double *x, double *a0, doubl
 
 /* A(gamma) from the two parts, stamped once per mode. The sum differs from a direct stamp at
  * gamma only by rounding. */
-static int stamp_affine(fci_sys *s, double t, const double *x, double gamma)
+static int affine_parts(fci_sys *s, double t, const double *x)
 {
   size_t nnz = (size_t)s->A.nnz;
-  double *A = s->A.val;
   if (!s->aff_ok) {
     if ((!s->aa0 && !(s->aa0 = fc_calloc(nnz, sizeof *s->aa0))) ||
         (!s->aa1 && !(s->aa1 = fc_calloc(nnz, sizeof *s->aa1))))
@@ -369,20 +368,25 @@ static int stamp_affine(fci_sys *s, double t, const double *x, double gamma)
     stamp_parts(s, t, x, s->aa0, s->aa1);
     s->aff_ok = 1;
   }
-  for (size_t p = 0; p < nnz; p++) A[p] = s->aa0[p] + gamma * s->aa1[p];
   return 0;
 }
 
+/* The affine matrix is formed where it is used: as the fixed-pivot LU loads it, or in A.val
+ * for KLU. */
 static int setup(fci_sys *s, double t, const double *x, double gamma, int steady)
 {
   if (fci_sys_eval(s, t, x)) return 1;
   memcpy(s->Cpre, s->Csum, (size_t)s->ns * sizeof *s->Cpre);
-  if (steady || !s->aff_able || stamp_affine(s, t, x, gamma)) stamp_aug(s, t, x, gamma, steady);
+  int affine = !steady && s->aff_able && !affine_parts(s, t, x);
+  if (!affine) stamp_aug(s, t, x, gamma, steady);
   s->nAfact++;
   if (s->lu_want && !s->lu && !(s->lu = fci_lu_new(s->A.n, s->A.colptr, s->A.rowind)))
     s->lu_want = 0; /* heavy fill-in, or out of memory here: KLU */
-  s->lu_on = s->lu_want && fci_lu_factor(s->lu, s->A.val) == FC_OK;
+  s->lu_on = s->lu_want && fci_lu_factor(s->lu, affine ? s->aa0 : s->A.val,
+                                         affine ? s->aa1 : NULL, gamma) == FC_OK;
   if (s->lu_on) return 0;
+  if (affine)
+    for (int p = 0; p < s->A.nnz; p++) s->A.val[p] = s->aa0[p] + gamma * s->aa1[p];
   int rc = fci_klu_factor(&s->ak, &s->A, s->afactored);
   s->afactored = (rc == FC_OK);
   return rc ? 1 : 0;
@@ -416,6 +420,11 @@ int fci_sys_psetup(fci_sys *s, double t, const double *x, double gamma)
 int fci_sys_psolve(fci_sys *s, double *r)
 {
   if (s->nx == 0) return 0;
+  if (s->lu_on) { /* every unknown a store's pressure change (lu_want: nz = no = 0) */
+    fci_lu_solve(s->lu, r);
+    for (int k = 0; k < s->ns; k++) r[k] *= s->Cpre[k];
+    return 0;
+  }
   double *b = s->abuf;
   memcpy(b, r, (size_t)s->nx * sizeof *r);
   for (int i = 0; i < s->nz; i++) b[s->nx + i] = 0;

@@ -237,13 +237,16 @@ fail:
  * ascending): each U(k, j) is final when its updates start, as every update that reaches it
  * comes from a row above k. Then the pivot, and L(:, j) divided by it. U's rows are divided by
  * their pivots at the end (A = L D U'), once nothing reads them undivided. */
-int fci_lu_factor(fci_lu *f, const double *val)
+int fci_lu_factor(fci_lu *f, const double *val, const double *val1, double gamma)
 {
   double *restrict V = f->V, *lx = V + f->n, *ux = lx + f->nl, dmin = INFINITY, dmax = 0;
   const int *restrict tg = f->otgt, *restrict ol = f->ol, *restrict ou = f->ou, *lp = f->lp;
   double *restrict dinv = f->dinvp;
   for (int m = 0; m < f->nfill; m++) V[f->fill[m]] = 0;
-  for (int p = 0; p < f->na; p++) V[f->amap[p]] = val[p];
+  if (val1)
+    for (int p = 0; p < f->na; p++) V[f->amap[p]] = val[p] + gamma * val1[p];
+  else
+    for (int p = 0; p < f->na; p++) V[f->amap[p]] = val[p];
   for (int j = 0, o = 0; j < f->n; j++) {
     for (int oe = f->opc[j + 1]; o < oe; o++) V[tg[o]] -= V[ol[o]] * V[ou[o]];
     double r = 1.0 / V[j];

@@ -25,9 +25,11 @@ typedef struct fci_lu fci_lu;
  * 32 entries per entry of A and the factors (heavy fill-in, a mesh: KLU's general code then). */
 fci_lu *fci_lu_new(int n, const int *colptr, const int *rowind);
 
-/* Factor the values val (one per pattern entry). FC_OK, or FC_ESOLVE when a pivot is zero or
- * not finite or the pivots span more than 1e13 (the caller then factors with pivoting). */
-int fci_lu_factor(fci_lu *f, const double *val);
+/* Factor the values val + gamma val1 (one per pattern entry; val1 NULL: val alone), formed as
+ * they are loaded (an affine Newton matrix, sys.h aff_able, needs no pass of its own). FC_OK,
+ * or FC_ESOLVE when a pivot is zero or not finite or the pivots span more than 1e13 (the caller
+ * then factors with pivoting). */
+int fci_lu_factor(fci_lu *f, const double *val, const double *val1, double gamma);
 
 /* Solve A x = b in place with the last successful factorisation. */
 void fci_lu_solve(const fci_lu *f, double *b);

@@ -82,7 +82,7 @@ static void solve_and_compare(const fci_csc *A, fci_lu *f, uint64_t *s)
   int n = A->n;
   double *b = calloc((size_t)n, sizeof *b), *x = calloc((size_t)n, sizeof *x),
          *y = calloc((size_t)n, sizeof *y);
-  assert_int_equal(fci_lu_factor(f, A->val), FC_OK);
+  assert_int_equal(fci_lu_factor(f, A->val, NULL, 0), FC_OK);
   for (int i = 0; i < n; i++) b[i] = x[i] = y[i] = uniform(s, -1, 1);
   fci_lu_solve(f, x);
   klu_reference(A, y);
@@ -151,6 +151,43 @@ static void grid_with_fill_in_matches_klu(void **state)
   assert_true(factor_twice(&t, &s) > 2); /* fill-in is exercised */
 }
 
+/* The matrix of a binary tree of n nodes with compliances. */
+static void tree_matrix(int n, uint64_t *s, fci_csc *A)
+{
+  static trip t;
+  t.n = n; t.m = 0;
+  for (int i = 1; i < t.n; i++) edge(&t, s, (i - 1) / 2, i);
+  compliances(&t, s);
+  assemble(&t, A);
+}
+
+/* val + gamma val1, formed as the factorisation loads it (the affine Newton matrix), gives the
+ * factors of the summed matrix. */
+static void affine_values_are_summed_as_loaded(void **state)
+{
+  (void)state;
+  uint64_t s = 11;
+  fci_csc A;
+  tree_matrix(255, &s, &A);
+  double *a0 = calloc((size_t)A.nnz, sizeof *a0), *a1 = calloc((size_t)A.nnz, sizeof *a1);
+  double x[255], y[255], gamma = 0.37;
+  for (int p = 0; p < A.nnz; p++) {
+    a0[p] = 0.25 * A.val[p];
+    a1[p] = 0.75 * A.val[p] / gamma;
+  }
+  fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind);
+  assert_non_null(f);
+  for (int i = 0; i < A.n; i++) x[i] = y[i] = uniform(&s, -1, 1);
+  assert_int_equal(fci_lu_factor(f, a0, a1, gamma), FC_OK);
+  fci_lu_solve(f, x);
+  klu_reference(&A, y);
+  for (int i = 0; i < A.n; i++) assert_true(fabs(x[i] - y[i]) <= 1e-12 * fabs(y[i]));
+  fci_lu_free(f);
+  fci_csc_free(&A);
+  free(a0);
+  free(a1);
+}
+
 static void zero_pivot_is_refused(void **state)
 {
   (void)state;
@@ -161,9 +198,9 @@ static void zero_pivot_is_refused(void **state)
   assemble(&t, &A);
   fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind);
   assert_non_null(f);
-  assert_int_equal(fci_lu_factor(f, A.val), FC_ESOLVE); /* KLU would swap the rows */
+  assert_int_equal(fci_lu_factor(f, A.val, NULL, 0), FC_ESOLVE); /* KLU would swap the rows */
   A.val[0] = NAN;
-  assert_int_equal(fci_lu_factor(f, A.val), FC_ESOLVE);
+  assert_int_equal(fci_lu_factor(f, A.val, NULL, 0), FC_ESOLVE);
   fci_lu_free(f);
   fci_csc_free(&A);
 }
@@ -178,9 +215,9 @@ static void pivots_spanning_1e13_are_refused(void **state)
   assemble(&t, &A);
   fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind);
   assert_non_null(f);
-  assert_int_equal(fci_lu_factor(f, A.val), FC_ESOLVE);
+  assert_int_equal(fci_lu_factor(f, A.val, NULL, 0), FC_ESOLVE);
   A.val[A.colptr[2] + 1] = 1e-12; /* within the bound: accepted */
-  assert_int_equal(fci_lu_factor(f, A.val), FC_OK);
+  assert_int_equal(fci_lu_factor(f, A.val, NULL, 0), FC_OK);
   fci_lu_free(f);
   fci_csc_free(&A);
 }
@@ -201,13 +238,9 @@ static void dense_pattern_is_left_to_klu(void **state)
 static void every_failed_allocation_unwinds(void **state)
 {
   (void)state;
-  static trip t;
   uint64_t s = 7;
-  t.n = 63; t.m = 0;
-  for (int i = 1; i < t.n; i++) edge(&t, &s, (i - 1) / 2, i);
-  compliances(&t, &s);
   fci_csc A;
-  assemble(&t, &A);
+  tree_matrix(63, &s, &A);
   fci_lu *f = NULL;
   int k = 0;
   for (; !f && k < 100; k++) {
@@ -283,6 +316,7 @@ int main(void)
   const struct CMUnitTest tests[] = {
     cmocka_unit_test(tree_solution_matches_klu),
     cmocka_unit_test(grid_with_fill_in_matches_klu),
+    cmocka_unit_test(affine_values_are_summed_as_loaded),
     cmocka_unit_test(zero_pivot_is_refused),
     cmocka_unit_test(pivots_spanning_1e13_are_refused),
     cmocka_unit_test(dense_pattern_is_left_to_klu),

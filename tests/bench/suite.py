@@ -269,12 +269,23 @@ def main(argv):
                         if not ok:
                             m[tool] = None
                             continue
-                        cheap = min(ok, key=lambda r: r["wall"])
-                        tol = cheap["tol"]
-                        best, k = median_time(lambda: dict(tools[tool](tol),
-                                                           err=cheap["err"]), cheap, repeat)
+                        # Candidates: the cheapest single run, and the loosest setting that
+                        # meets the target (the ladders run from loose to tight). One run of a
+                        # few ms is noisy enough to rank a tighter setting first; each
+                        # candidate is re-timed and the lower median wins, for every tool alike.
+                        cands = [min(ok, key=lambda r: r["wall"])]
+                        if ok[0] is not cands[0]:
+                            cands.append(ok[0])
+                        timed_c = []
+                        for cheap in cands:
+                            tol = cheap["tol"]
+                            best, k = median_time(lambda: dict(tools[tool](tol),
+                                                               err=cheap["err"]), cheap, repeat)
+                            timed_c.append((best["wall"], tol, best, k, cheap))
+                        _, tol, best, k, cheap = min(timed_c, key=lambda c: c[0])
                         m[tool] = {"tol": tol, "wall": best["wall"], "rss_kb": best["rss_kb"],
                                    "err": cheap["err"]["max"], "repeats": k,
+                                   "candidates": [[c[1], c[0]] for c in timed_c],
                                    "stats": best.get("solver") or best.get("stats")}
                     row["matched"]["%g" % target] = m
                     if target == TARGETS[-1] and m.get("ferrocirc"):
