@@ -142,13 +142,13 @@ static void column_places(const fci_lu *f, int j, int *pos)
 }
 
 /* Where each entry of A starts in V, which places are fill, and the update lists. */
-static int place(fci_lu *f, const int *colptr, const int *rowind, const int *iperm, int *pos)
+static int place(fci_lu *f, const int *colptr, const int *rowind, const int *iperm, int *pos,
+                 double cap)
 {
   int n = f->n, nl = f->nl, nv = n + 2 * nl;
   long nop = 0;
   for (int p = 0; p < nl; p++) nop += f->lp[f->ui[p] + 1] - f->lp[f->ui[p]];
-  /* A fill-heavy matrix (a mesh) would need a list longer than its factors: KLU takes it. */
-  if (nop > 16L * (nv + colptr[n]) || nop > 0x7fffffffL) return FC_ESOLVE;
+  if ((double)nop > cap * (nv + colptr[n]) || nop > 0x7fffffffL) return FC_ESOLVE;
   unsigned char *hit = fc_calloc((size_t)nv + 1, 1);
   size_t so = (size_t)(nop ? nop : 1) * sizeof(int);
   f->na = colptr[n];
@@ -202,7 +202,7 @@ static int solve_lists(fci_lu *f)
   return FC_OK;
 }
 
-fci_lu *fci_lu_new(int n, const int *colptr, const int *rowind)
+fci_lu *fci_lu_new(int n, const int *colptr, const int *rowind, double cap)
 {
   fci_lu *f = fc_calloc(1, sizeof *f);
   int *iperm = NULL, *sp = NULL, *si = NULL, *parent = NULL, *anc = NULL;
@@ -221,7 +221,7 @@ fci_lu *fci_lu_new(int n, const int *colptr, const int *rowind)
   etree(n, sp, si, parent, anc);
   if (u_pattern(f, sp, si, parent, anc) || l_pattern(f, anc)) goto fail;
   f->nl = f->up[n];
-  if (place(f, colptr, rowind, iperm, anc) || solve_lists(f) ||
+  if (place(f, colptr, rowind, iperm, anc, cap) || solve_lists(f) ||
       !(f->V = fc_malloc(((size_t)n + 2 * (size_t)f->nl + 1) * sizeof *f->V)) ||
       !(f->dinvp = fc_malloc(sz * sizeof *f->dinvp)) || !(f->dinvo = fc_malloc(sz * sizeof *f->dinvo)))
     goto fail;

@@ -21,9 +21,10 @@
 typedef struct fci_lu fci_lu;
 
 /* Order and pattern for the n x n compressed-column pattern (colptr, rowind; rows sorted, no
- * duplicates). NULL when out of memory, when AMD fails, or when the update list would exceed
- * 32 entries per entry of A and the factors (heavy fill-in, a mesh: KLU's general code then). */
-fci_lu *fci_lu_new(int n, const int *colptr, const int *rowind);
+ * duplicates). NULL when out of memory, when AMD fails, or when the factorisation would take
+ * more than cap updates per entry of A and of the factors (fill-in: the update list, 12 bytes
+ * an update, would outweigh the factors; KLU's general code then). */
+fci_lu *fci_lu_new(int n, const int *colptr, const int *rowind, double cap);
 
 /* Factor the values val + gamma val1 (one per pattern entry; val1 NULL: val alone), formed as
  * they are loaded (an affine Newton matrix, sys.h aff_able, needs no pass of its own). FC_OK,

@@ -21,6 +21,10 @@
 
 enum { MAXE = 20000 };
 
+/* Updates allowed per entry: generous, so that the grid's fill-in is exercised here (the
+ * system's own bound keeps meshes for KLU; sys_eval.c LU_CAP). */
+#define CAP 64.0
+
 typedef struct trip {
   int n, m;
   int r[MAXE], c[MAXE], slot[MAXE];
@@ -115,7 +119,7 @@ static double factor_twice(trip *t, uint64_t *s)
   compliances(t, s);
   fci_csc A;
   assemble(t, &A);
-  fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind);
+  fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind, CAP);
   assert_non_null(f);
   double fill = (double)fci_lu_nnz(f) / (A.nnz - A.n);
   solve_and_compare(&A, f, s);
@@ -175,7 +179,7 @@ static void affine_values_are_summed_as_loaded(void **state)
     a0[p] = 0.25 * A.val[p];
     a1[p] = 0.75 * A.val[p] / gamma;
   }
-  fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind);
+  fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind, CAP);
   assert_non_null(f);
   for (int i = 0; i < A.n; i++) x[i] = y[i] = uniform(&s, -1, 1);
   assert_int_equal(fci_lu_factor(f, a0, a1, gamma), FC_OK);
@@ -196,7 +200,7 @@ static void zero_pivot_is_refused(void **state)
   add(&t, 0, 0, 0.0); add(&t, 1, 0, 1.0); add(&t, 0, 1, 1.0); add(&t, 1, 1, 1.0);
   fci_csc A;
   assemble(&t, &A);
-  fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind);
+  fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind, CAP);
   assert_non_null(f);
   assert_int_equal(fci_lu_factor(f, A.val, NULL, 0), FC_ESOLVE); /* KLU would swap the rows */
   A.val[0] = NAN;
@@ -213,7 +217,7 @@ static void pivots_spanning_1e13_are_refused(void **state)
   add(&t, 0, 0, 1.0); add(&t, 1, 1, 1.0); add(&t, 2, 2, 1e-14); add(&t, 1, 2, 0.0);
   fci_csc A;
   assemble(&t, &A);
-  fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind);
+  fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind, CAP);
   assert_non_null(f);
   assert_int_equal(fci_lu_factor(f, A.val, NULL, 0), FC_ESOLVE);
   A.val[A.colptr[2] + 1] = 1e-12; /* within the bound: accepted */
@@ -222,7 +226,9 @@ static void pivots_spanning_1e13_are_refused(void **state)
   fci_csc_free(&A);
 }
 
-static void dense_pattern_is_left_to_klu(void **state)
+/* A dense pattern needs about n/3 updates per entry: refused at one per entry (the system's
+ * bound), taken without a bound. */
+static void fill_beyond_the_bound_is_refused(void **state)
 {
   (void)state;
   static trip t;
@@ -231,7 +237,10 @@ static void dense_pattern_is_left_to_klu(void **state)
     for (int j = 0; j < t.n; j++) add(&t, i, j, i == j ? t.n : 1.0 / (1 + i + j));
   fci_csc A;
   assemble(&t, &A);
-  assert_null(fci_lu_new(A.n, A.colptr, A.rowind));
+  assert_null(fci_lu_new(A.n, A.colptr, A.rowind, 1.0));
+  fci_lu *f = fci_lu_new(A.n, A.colptr, A.rowind, 1e9); /* the bound alone refused it */
+  assert_non_null(f);
+  fci_lu_free(f);
   fci_csc_free(&A);
 }
 
@@ -245,7 +254,7 @@ static void every_failed_allocation_unwinds(void **state)
   int k = 0;
   for (; !f && k < 100; k++) {
     fc_alloc_fail_after(k);
-    f = fci_lu_new(A.n, A.colptr, A.rowind);
+    f = fci_lu_new(A.n, A.colptr, A.rowind, CAP);
     fc_alloc_fail_after(-1);
   }
   assert_non_null(f);
@@ -311,6 +320,58 @@ static void newton_solves_equal_klu_in_both_valve_modes(void **state)
   fc_net_free(net);
 }
 
+/* A mesh of compliant nodes (an 8 x 8 grid of resistors, a chamber at every node): its
+ * factors fill in, and the system leaves it to KLU, whose solves stay right. */
+static void a_mesh_is_left_to_klu(void **state)
+{
+  (void)state;
+  enum { M = 8 };
+  static char js[40000];
+  int o = snprintf(js, sizeof js, "{\"format\":\"ferrocirc-network/1\",\"fluid\":{\"density\":1000,"
+                   "\"viscosity\":0.001},\"elements\":[{\"id\":\"feed\",\"type\":\"reservoir\","
+                   "\"node\":\"n0_0\",\"pressure\":\"5 mbar\"},{\"id\":\"sink\",\"type\":\"reservoir\","
+                   "\"node\":\"n%d_%d\",\"pressure\":0}", M - 1, M - 1);
+  for (int i = 0; i < M; i++)
+    for (int j = 0; j < M; j++) {
+      if ((i || j) && (i < M - 1 || j < M - 1))
+        o += snprintf(js + o, sizeof js - (size_t)o, ",{\"id\":\"c%d_%d\",\"type\":\"chamber\","
+                      "\"node\":\"n%d_%d\",\"compliance\":1e-15}", i, j, i, j);
+      if (j + 1 < M)
+        o += snprintf(js + o, sizeof js - (size_t)o, ",{\"id\":\"h%d_%d\",\"type\":\"resistor\","
+                      "\"from\":\"n%d_%d\",\"to\":\"n%d_%d\",\"resistance\":1e11}", i, j, i, j, i, j + 1);
+      if (i + 1 < M)
+        o += snprintf(js + o, sizeof js - (size_t)o, ",{\"id\":\"v%d_%d\",\"type\":\"resistor\","
+                      "\"from\":\"n%d_%d\",\"to\":\"n%d_%d\",\"resistance\":2e11}", i, j, i, j, i + 1, j);
+    }
+  o += snprintf(js + o, sizeof js - (size_t)o, "],\"simulation\":{\"duration\":1}}");
+  assert_true(o < (int)sizeof js);
+  fc_error err = {0};
+  fc_net *net = NULL;
+  fci_sys *s = NULL;
+  assert_int_equal(fc_net_load_buffer(js, (size_t)o, "mesh.json", ".", g_units, &net, &err), FC_OK);
+  assert_int_equal(fci_sys_build(net, &s, &err), FC_OK);
+  assert_int_equal(s->nx, M * M - 2);
+  double x[M * M] = {0}, r[M * M], b[M * M];
+  for (int k = 0; k < s->nx; k++) x[k] = 1e-15 * k;
+  assert_int_equal(fci_sys_psetup(s, 0.1, x, 1e-3), 0);
+  assert_int_equal(s->lu_want, 0);
+  assert_int_equal(s->lu_on, 0);
+  for (int k = 0; k < s->nx; k++) r[k] = b[k] = cos(k);
+  assert_int_equal(fci_sys_psolve(s, r), 0);
+  /* r solves (I - gamma J) r = b with J = dxdot/dx: check against the residual, the
+   * right-hand side differenced along r (linear network: exact to rounding) */
+  double f0[M * M], f1[M * M], x1[M * M], worst = 0;
+  assert_int_equal(fci_sys_eval(s, 0.1, x), 0);
+  assert_int_equal(fci_sys_rhs_from_eval(s, 0.1, x, f0), 0);
+  for (int k = 0; k < s->nx; k++) x1[k] = x[k] + r[k];
+  assert_int_equal(fci_sys_eval(s, 0.1, x1), 0);
+  assert_int_equal(fci_sys_rhs_from_eval(s, 0.1, x1, f1), 0);
+  for (int k = 0; k < s->nx; k++) worst = fmax(worst, fabs(r[k] - 1e-3 * (f1[k] - f0[k]) - b[k]));
+  assert_true(worst < 1e-9);
+  fci_sys_free(s);
+  fc_net_free(net);
+}
+
 int main(void)
 {
   const struct CMUnitTest tests[] = {
@@ -319,9 +380,10 @@ int main(void)
     cmocka_unit_test(affine_values_are_summed_as_loaded),
     cmocka_unit_test(zero_pivot_is_refused),
     cmocka_unit_test(pivots_spanning_1e13_are_refused),
-    cmocka_unit_test(dense_pattern_is_left_to_klu),
+    cmocka_unit_test(fill_beyond_the_bound_is_refused),
     cmocka_unit_test(every_failed_allocation_unwinds),
     cmocka_unit_test(newton_solves_equal_klu_in_both_valve_modes),
+    cmocka_unit_test(a_mesh_is_left_to_klu),
   };
   return cmocka_run_group_tests(tests, units_setup, units_teardown);
 }
