@@ -26,7 +26,7 @@ W=$(cd "$W" && pwd)
 
 SAN="-fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer"
 CFLAGS="-std=c11 -g -O1 $SAN -fsanitize=fuzzer-no-link -I$SRC/include -I$SRC/src -I$SRC/elements -I/usr/include/suitesparse -I/usr/include/cminpack-1"
-LIBS="-lsundials_cvodes -lsundials_nvecserial -lsundials_sunlinsolspgmr -lklu -lcjson -lcminpack -ludunits2 -lm"
+LIBS="-lsundials_cvodes -lsundials_nvecserial -lsundials_sunlinsolspgmr -lklu -lamd -lcjson -lcminpack -ludunits2 -lm"
 
 # ---- build ----
 echo "build_and_run: compiling the project with $($CC --version | head -n 1) in $W"
