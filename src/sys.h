@@ -83,6 +83,9 @@ typedef struct fci_sys {
   fci_csc G;                /* dF/dz */
   int *gslot;               /* per element 4 slots in G (from/from, from/to, to/from, to/to) */
   fci_klu gk;
+  int glu_want;             /* 1: try the fixed-pivot LU on G first (sys_lu.h) */
+  fci_lu *glu;              /* built at the first factorisation of G that wants it */
+  int glu_on;               /* 1: G's last factorisation is glu's, 0: KLU's (gk) */
   int gdirty;               /* 1: G must be refactored before the next solve */
   int nonlinear;            /* 1 if some element is not affine in pressure */
   /* augmented Newton matrix */

@@ -104,6 +104,13 @@ static void update_flows(fci_sys *s)
   }
 }
 
+/* Updates per entry of the matrix and its factors up to which the fixed-pivot LU takes a
+ * pattern (sys_lu.h). Trees, chains and loops of channels fill in nothing: 0.17 on the valve-fed
+ * trees of docs/performance.md. Meshes do: 3.7, 7.6 and 15.8 on grids of 16 x 16, 32 x 32 and
+ * 64 x 64 nodes, where at 64 x 64 the lists took 47 MB against KLU's 18 MB and 0.98 s against
+ * 0.75 s (circuit (c), eighth round). */
+#define LU_CAP 1.0
+
 /* Conservation F_i = qin at each ALG node; dF/dz from the element partials. */
 static int assemble_G(fci_sys *s)
 {
@@ -117,7 +124,13 @@ static int assemble_G(fci_sys *s)
         if (sl[2 * t + u] >= 0) s->G.val[sl[2 * t + u]] += (t == 0 ? -d[u] : d[u]);
   }
   s->nGfact++;
-  return fci_klu_factor(&s->gk, &s->G, 0);
+  /* Every row a node's conservation, every column its pressure: for passive elements each
+   * column's diagonal outweighs the rest, as in the Newton matrix of a compliant network, so
+   * the pivots can be fixed (sys_lu.h), KLU taking what they do not suit. */
+  if (s->glu_want && !s->glu && !(s->glu = fci_lu_new(s->G.n, s->G.colptr, s->G.rowind, LU_CAP)))
+    s->glu_want = 0;
+  s->glu_on = s->glu_want && fci_lu_factor(s->glu, s->G.val, NULL, 0) == FC_OK;
+  return s->glu_on ? FC_OK : fci_klu_factor(&s->gk, &s->G, 0);
 }
 
 static int solve_alg(fci_sys *s, double t, const double *x)
@@ -126,7 +139,8 @@ static int solve_alg(fci_sys *s, double t, const double *x)
     if ((s->gdirty || s->nonlinear) && assemble_G(s)) return 1;
     s->gdirty = 0;
     for (int i = 0; i < s->nz; i++) s->zbuf[i] = -s->qin[s->znode[i]];
-    if (fci_klu_solve(&s->gk, &s->G, s->zbuf)) return 1;
+    if (s->glu_on) fci_lu_solve(s->glu, s->zbuf);
+    else if (fci_klu_solve(&s->gk, &s->G, s->zbuf)) return 1;
     double worst = 0;
     for (int i = 0; i < s->nz; i++) {
       double *pz = &s->p[s->znode[i]];
@@ -370,13 +384,6 @@ static int affine_parts(fci_sys *s, double t, const double *x)
   }
   return 0;
 }
-
-/* Updates per entry of the matrix and its factors up to which the fixed-pivot LU takes a
- * pattern (sys_lu.h). Trees, chains and loops of channels fill in nothing: 0.17 on the valve-fed
- * trees of docs/performance.md. Meshes do: 3.7, 7.6 and 15.8 on grids of 16 x 16, 32 x 32 and
- * 64 x 64 nodes, where at 64 x 64 the lists took 47 MB against KLU's 18 MB and 0.98 s against
- * 0.75 s (circuit (c), eighth round). */
-#define LU_CAP 1.0
 
 /* The affine matrix is formed where it is used: as the fixed-pivot LU loads it, or in A.val
  * for KLU. */

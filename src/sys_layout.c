@@ -181,6 +181,7 @@ int fci_sys_build(fc_net *net, fci_sys **out, fc_error *err)
     goto fail;
   }
   s->gdirty = 1;
+  s->glu_want = s->nz > 0;
   /* Every row of the Newton matrix a compliant node's volume balance (no algebraic node, no own
    * state): the rows share one unit and each column's largest entry is its diagonal
    * (C + gamma times the node's conductances), so partial pivoting picks the diagonal with or
@@ -208,6 +209,7 @@ void fci_sys_free(fci_sys *s)
 {
   if (!s) return;
   fci_klu_free(&s->gk);
+  fci_lu_free(s->glu);
   fci_klu_free(&s->ak);
   fci_lu_free(s->lu);
   fci_krylov_free(s->kr);

@@ -264,6 +264,16 @@ static void every_failed_allocation_unwinds(void **state)
   fci_csc_free(&A);
 }
 
+/* A network from JSON text, loaded and assembled. */
+static fci_sys *load_sys(const char *json, size_t len, fc_net **net)
+{
+  fc_error err = {0};
+  fci_sys *s = NULL;
+  assert_int_equal(fc_net_load_buffer(json, len, "net.json", ".", g_units, net, &err), FC_OK);
+  assert_int_equal(fci_sys_build(*net, &s, &err), FC_OK);
+  return s;
+}
+
 /* A valve-fed tree whose every node has compliance (two levels of junctions, four leaves):
  * the system takes the fixed-pivot LU, and its Newton solves equal KLU's (through the system's
  * own KLU path) in both valve modes and over nine decades of gamma. */
@@ -291,11 +301,8 @@ static const char NET[] =
 static void newton_solves_equal_klu_in_both_valve_modes(void **state)
 {
   (void)state;
-  fc_error err = {0};
   fc_net *net = NULL;
-  fci_sys *s = NULL;
-  assert_int_equal(fc_net_load_buffer(NET, sizeof NET - 1, "tree.json", ".", g_units, &net, &err), FC_OK);
-  assert_int_equal(fci_sys_build(net, &s, &err), FC_OK);
+  fci_sys *s = load_sys(NET, sizeof NET - 1, &net);
   assert_int_equal(s->lu_want, 1);
   double x[16] = {0}, r1[16], r2[16];
   assert_int_equal(s->nx, 8); /* up, r, m0, m1 and the four leaves */
@@ -345,11 +352,8 @@ static void a_mesh_is_left_to_klu(void **state)
     }
   o += snprintf(js + o, sizeof js - (size_t)o, "],\"simulation\":{\"duration\":1}}");
   assert_true(o < (int)sizeof js);
-  fc_error err = {0};
   fc_net *net = NULL;
-  fci_sys *s = NULL;
-  assert_int_equal(fc_net_load_buffer(js, (size_t)o, "mesh.json", ".", g_units, &net, &err), FC_OK);
-  assert_int_equal(fci_sys_build(net, &s, &err), FC_OK);
+  fci_sys *s = load_sys(js, (size_t)o, &net);
   assert_int_equal(s->nx, M * M - 2);
   double x[M * M] = {0}, r[M * M], b[M * M];
   for (int k = 0; k < s->nx; k++) x[k] = 1e-15 * k;
@@ -372,6 +376,49 @@ static void a_mesh_is_left_to_klu(void **state)
   fc_net_free(net);
 }
 
+/* Junctions without compliance (algebraic nodes) eliminated through the conservation matrix G:
+ * its pivots are fixed too, and the junction pressures equal those of KLU's solve. */
+static const char JUNCTIONS[] =
+  "{\"format\":\"ferrocirc-network/1\",\"fluid\":{\"density\":1000,\"viscosity\":0.001},"
+  "\"elements\":["
+  "{\"id\":\"feed\",\"type\":\"reservoir\",\"node\":\"in\",\"pressure\":\"9 mbar\"},"
+  "{\"id\":\"r0\",\"type\":\"resistor\",\"from\":\"in\",\"to\":\"j1\",\"resistance\":3e11},"
+  "{\"id\":\"r1\",\"type\":\"resistor\",\"from\":\"j1\",\"to\":\"j2\",\"resistance\":2e11},"
+  "{\"id\":\"r2\",\"type\":\"resistor\",\"from\":\"j1\",\"to\":\"c1\",\"resistance\":7e11},"
+  "{\"id\":\"r3\",\"type\":\"resistor\",\"from\":\"j2\",\"to\":\"c2\",\"resistance\":5e11},"
+  "{\"id\":\"r4\",\"type\":\"resistor\",\"from\":\"j2\",\"to\":\"c3\",\"resistance\":9e11},"
+  "{\"id\":\"k1\",\"type\":\"chamber\",\"node\":\"c1\",\"compliance\":2e-15},"
+  "{\"id\":\"k2\",\"type\":\"chamber\",\"node\":\"c2\",\"compliance\":3e-15},"
+  "{\"id\":\"k3\",\"type\":\"chamber\",\"node\":\"c3\",\"compliance\":4e-15},"
+  "{\"id\":\"d1\",\"type\":\"resistor\",\"from\":\"c1\",\"to\":\"out\",\"resistance\":2e12},"
+  "{\"id\":\"d2\",\"type\":\"resistor\",\"from\":\"c2\",\"to\":\"out\",\"resistance\":3e12},"
+  "{\"id\":\"d3\",\"type\":\"resistor\",\"from\":\"c3\",\"to\":\"out\",\"resistance\":4e12},"
+  "{\"id\":\"waste\",\"type\":\"reservoir\",\"node\":\"out\",\"pressure\":0}],"
+  "\"simulation\":{\"duration\":1}}";
+
+static void junction_pressures_equal_klu(void **state)
+{
+  (void)state;
+  fc_net *net = NULL;
+  fci_sys *s = load_sys(JUNCTIONS, sizeof JUNCTIONS - 1, &net);
+  assert_int_equal(s->nz, 2);
+  double x[3] = {4e-13, 1e-13, 9e-13}, p1[2], p2[2];
+  assert_int_equal(fci_sys_eval(s, 0.1, x), 0);
+  assert_int_equal(s->glu_on, 1);
+  for (int i = 0; i < 2; i++) p1[i] = s->p[s->znode[i]];
+  s->glu_want = 0;
+  fci_sys_invalidate(s);
+  assert_int_equal(fci_sys_eval(s, 0.1, x), 0);
+  assert_int_equal(s->glu_on, 0);
+  for (int i = 0; i < 2; i++) p2[i] = s->p[s->znode[i]];
+  for (int i = 0; i < 2; i++) {
+    assert_true(p2[i] > 33 && p2[i] < 900); /* the feed is at 900 Pa, the chambers at 33-225 Pa */
+    assert_true(fabs(p1[i] - p2[i]) <= 1e-12 * fabs(p2[i]));
+  }
+  fci_sys_free(s);
+  fc_net_free(net);
+}
+
 int main(void)
 {
   const struct CMUnitTest tests[] = {
@@ -384,6 +431,7 @@ int main(void)
     cmocka_unit_test(every_failed_allocation_unwinds),
     cmocka_unit_test(newton_solves_equal_klu_in_both_valve_modes),
     cmocka_unit_test(a_mesh_is_left_to_klu),
+    cmocka_unit_test(junction_pressures_equal_klu),
   };
   return cmocka_run_group_tests(tests, units_setup, units_teardown);
 }
