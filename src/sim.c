@@ -537,6 +537,7 @@ int fc_sim_run(fc_net *net, const fc_sim_sink *sink, fc_sim_result **out, fc_err
   if (R.res) {
     R.res->stats.wall_seconds = (double)(t1.tv_sec - t0.tv_sec) + 1e-9 * (double)(t1.tv_nsec - t0.tv_nsec);
     R.res->stats.factorizations = R.sys ? R.sys->nGfact + R.sys->nAfact : 0;
+    R.res->stats.fixed_pivot = R.sys ? R.sys->nFixed : 0;
     R.res->stats.prec_setups = c.lsc.setups;
     R.res->stats.lin_fallbacks = c.lsc.fallbacks;
   }

@@ -42,9 +42,11 @@ void fc_summary_print(FILE *f, const fc_net *net, const fc_sim_result *r, const 
   fci_summary_print_cycles(f, net, r, u);
   const fc_sim_stats *s = &r->stats;
   fprintf(f, "\nSolver: %ld steps, %ld right-hand sides, %ld Newton-matrix set-ups (%s), %ld "
-          "linear iterations, %ld events, %.3g s wall\n\n", s->steps, s->rhs_evals, s->prec_setups,
-          s->iterative ? "iterative: GMRES with ILU(0)" : "direct: KLU", s->lin_iters, s->events,
+          "linear iterations, %ld events, %.3g s wall\n", s->steps, s->rhs_evals, s->prec_setups,
+          s->iterative ? "iterative: GMRES with ILU(0)" : "direct", s->lin_iters, s->events,
           s->wall_seconds);
+  fprintf(f, "Sparse factorisations: %ld, of them %ld with fixed pivots (diagonally dominant), "
+          "%ld by KLU\n\n", s->factorizations, s->fixed_pivot, s->factorizations - s->fixed_pivot);
   fputs(fc_cautions_text, f);
 }
 
@@ -99,6 +101,7 @@ int fc_summary_json_write(FILE *f, const fc_net *net, const fc_sim_result *r)
   fci_jw_number(&w, "conv_fails", (double)s->conv_fails);
   fci_jw_number(&w, "root_evals", (double)s->root_evals);
   fci_jw_number(&w, "factorizations", (double)s->factorizations);
+  fci_jw_number(&w, "fixed_pivot_factorizations", (double)s->fixed_pivot);
   fci_jw_number(&w, "lin_fallbacks", (double)s->lin_fallbacks);
   fci_jw_number(&w, "wall_seconds", s->wall_seconds);
   fci_jw_end(&w);

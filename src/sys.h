@@ -101,6 +101,7 @@ typedef struct fci_sys {
   double *abuf;             /* nx + nz */
   double *Cpre;             /* per store index: compliance at the last Newton-matrix factorisation */
   long nGfact, nAfact;      /* factorisations done, for statistics */
+  long nFixed;              /* of them, by the fixed-pivot LU (lu, glu) */
   double *xlast;            /* nx: state of the last evaluation, for the cache */
   double tlast;             /* its time */
   int cached;               /* 1 if p, q, qin hold the evaluation at (tlast, xlast) */

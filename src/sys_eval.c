@@ -130,6 +130,7 @@ static int assemble_G(fci_sys *s)
   if (s->glu_want && !s->glu && !(s->glu = fci_lu_new(s->G.n, s->G.colptr, s->G.rowind, LU_CAP)))
     s->glu_want = 0;
   s->glu_on = s->glu_want && fci_lu_factor(s->glu, s->G.val, NULL, 0) == FC_OK;
+  s->nFixed += s->glu_on;
   return s->glu_on ? FC_OK : fci_klu_factor(&s->gk, &s->G, 0);
 }
 
@@ -398,6 +399,7 @@ static int setup(fci_sys *s, double t, const double *x, double gamma, int steady
     s->lu_want = 0; /* fill-in, or out of memory here: KLU */
   s->lu_on = s->lu_want && fci_lu_factor(s->lu, affine ? s->aa0 : s->A.val,
                                          affine ? s->aa1 : NULL, gamma) == FC_OK;
+  s->nFixed += s->lu_on;
   if (s->lu_on) return 0;
   if (affine)
     for (int p = 0; p < s->A.nnz; p++) s->A.val[p] = s->aa0[p] + gamma * s->aa1[p];

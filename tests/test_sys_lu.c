@@ -419,6 +419,27 @@ static void junction_pressures_equal_klu(void **state)
   fc_net_free(net);
 }
 
+/* A run counts its factorisations by path: the valve-fed tree's all with fixed pivots, the
+ * junction network's conservation matrix with fixed pivots and its augmented Newton matrix
+ * (rows of two units) by KLU. */
+static void runs_report_which_factorisations_had_fixed_pivots(void **state)
+{
+  (void)state;
+  run R;
+  run_json(&R, NET);
+  assert_int_equal(R.rc_sim, FC_OK);
+  const fc_sim_stats *st = &R.res->stats;
+  assert_true(st->factorizations > 10);
+  assert_int_equal(st->fixed_pivot, st->factorizations);
+  run_free(&R);
+  run_json(&R, JUNCTIONS);
+  assert_int_equal(R.rc_sim, FC_OK);
+  st = &R.res->stats;
+  assert_true(st->fixed_pivot >= 1);
+  assert_true(st->fixed_pivot < st->factorizations);
+  run_free(&R);
+}
+
 int main(void)
 {
   const struct CMUnitTest tests[] = {
@@ -432,6 +453,7 @@ int main(void)
     cmocka_unit_test(newton_solves_equal_klu_in_both_valve_modes),
     cmocka_unit_test(a_mesh_is_left_to_klu),
     cmocka_unit_test(junction_pressures_equal_klu),
+    cmocka_unit_test(runs_report_which_factorisations_had_fixed_pivots),
   };
   return cmocka_run_group_tests(tests, units_setup, units_teardown);
 }

@@ -34,7 +34,9 @@ typedef struct fc_sim_stats {
   long steps, rhs_evals, lin_iters, prec_setups, prec_solves, nonlin_iters;
   long err_test_fails, conv_fails, root_evals, events, restarts, factorizations;
   long lin_fallbacks;     /* iterative Newton solves redone directly */
-  int iterative;          /* 1 if the Newton solves were iterative (GMRES), 0 direct (KLU) */
+  long fixed_pivot;       /* of the factorisations, those done with pivots fixed in advance
+                           * (diagonally dominant matrices); KLU did the others */
+  int iterative;          /* 1 if the Newton solves were iterative (GMRES), 0 direct */
   double wall_seconds;
 } fc_sim_stats;
 
