@@ -1,8 +1,9 @@
 /* ferrocirc — sparse LU without pivoting on a fixed pattern: see sys_lu.h for when and why.
  *
- * Everything index-like is computed once (fci_lu_new): the AMD order, where each entry of A
- * goes in the permuted matrix, and the patterns of L and U. A factorisation is then three
- * flat loops per column (scatter, updates, store) and a solve two triangular sweeps. */
+ * Everything index-like is computed once (fci_lu_new): the AMD order, the patterns of L and U,
+ * the place in the factors where each entry of A starts, and the list of updates. A
+ * factorisation then loads A into the factors' places and runs, column by column, its updates
+ * and its pivot; a solve is two flat sweeps over the entries of L and U. */
 #include "sys_lu.h"
 
 #include <amd.h>
@@ -16,7 +17,8 @@
 struct fci_lu {
   int n, nl;            /* order; entries of L, as many as of U (the pattern is symmetric) */
   int *perm;            /* pivot k is original row and column perm[k] (AMD) */
-  int *up, *ui, *uj;    /* U strictly above the diagonal, by column, rows ascending; columns */
+  int *up, *ui, *uj;    /* U strictly above the diagonal, by column, rows ascending; columns
+                         * (up, uj, li, lj only while fci_lu_new builds the lists) */
   int *lp, *li, *lj;    /* L strictly below the diagonal (unit diagonal), likewise */
   double *V;            /* the factors in place: D (n), then L (nl), then U' (nl) */
   int na, *amap;        /* where each entry of A starts in V */
@@ -226,6 +228,9 @@ fci_lu *fci_lu_new(int n, const int *colptr, const int *rowind, double cap)
       !(f->dinvp = fc_malloc(sz * sizeof *f->dinvp)) || !(f->dinvo = fc_malloc(sz * sizeof *f->dinvo)))
     goto fail;
   fc_free(iperm); fc_free(sp); fc_free(si); fc_free(parent); fc_free(anc);
+  /* The patterns by column served the lists; a factorisation needs only lp and ui. */
+  fc_free(f->up); fc_free(f->li); fc_free(f->lj); fc_free(f->uj);
+  f->up = f->li = f->lj = f->uj = NULL;
   return f;
 fail:
   fc_free(iperm); fc_free(sp); fc_free(si); fc_free(parent); fc_free(anc);
