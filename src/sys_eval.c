@@ -111,6 +111,27 @@ static void update_flows(fci_sys *s)
  * 0.75 s (circuit (c), eighth round). */
 #define LU_CAP 1.0
 
+/* The fixed-pivot LU of matrix M (pattern M, values v0 + gamma v1), built at its first use; a
+ * pattern it refuses clears *want, and KLU takes that matrix from then on. 1 if it factored
+ * (counted in nFixed), 0 if KLU must. */
+static int fixed_factor(fci_sys *s, fci_lu **lu, int *want, const fci_csc *M, const double *v0,
+                        const double *v1, double gamma)
+{
+  if (*want && !*lu && !(*lu = fci_lu_new(M->n, M->colptr, M->rowind, LU_CAP)))
+    *want = 0; /* fill-in, or out of memory here */
+  int on = *want && fci_lu_factor(*lu, v0, v1, gamma) == FC_OK;
+  s->nFixed += on;
+  return on;
+}
+
+/* Solve M x = b in place with M's last factorisation: the fixed-pivot LU's if on, else KLU's. */
+static int solve_with(const fci_lu *lu, int on, fci_klu *k, const fci_csc *M, double *b)
+{
+  if (!on) return fci_klu_solve(k, M, b);
+  fci_lu_solve(lu, b);
+  return FC_OK;
+}
+
 /* Conservation F_i = qin at each ALG node; dF/dz from the element partials. */
 static int assemble_G(fci_sys *s)
 {
@@ -127,10 +148,7 @@ static int assemble_G(fci_sys *s)
   /* Every row a node's conservation, every column its pressure: for passive elements each
    * column's diagonal outweighs the rest, as in the Newton matrix of a compliant network, so
    * the pivots can be fixed (sys_lu.h), KLU taking what they do not suit. */
-  if (s->glu_want && !s->glu && !(s->glu = fci_lu_new(s->G.n, s->G.colptr, s->G.rowind, LU_CAP)))
-    s->glu_want = 0;
-  s->glu_on = s->glu_want && fci_lu_factor(s->glu, s->G.val, NULL, 0) == FC_OK;
-  s->nFixed += s->glu_on;
+  s->glu_on = fixed_factor(s, &s->glu, &s->glu_want, &s->G, s->G.val, NULL, 0);
   return s->glu_on ? FC_OK : fci_klu_factor(&s->gk, &s->G, 0);
 }
 
@@ -140,8 +158,7 @@ static int solve_alg(fci_sys *s, double t, const double *x)
     if ((s->gdirty || s->nonlinear) && assemble_G(s)) return 1;
     s->gdirty = 0;
     for (int i = 0; i < s->nz; i++) s->zbuf[i] = -s->qin[s->znode[i]];
-    if (s->glu_on) fci_lu_solve(s->glu, s->zbuf);
-    else if (fci_klu_solve(&s->gk, &s->G, s->zbuf)) return 1;
+    if (solve_with(s->glu, s->glu_on, &s->gk, &s->G, s->zbuf)) return 1;
     double worst = 0;
     for (int i = 0; i < s->nz; i++) {
       double *pz = &s->p[s->znode[i]];
@@ -395,27 +412,14 @@ static int setup(fci_sys *s, double t, const double *x, double gamma, int steady
   int affine = !steady && s->aff_able && !affine_parts(s, t, x);
   if (!affine) stamp_aug(s, t, x, gamma, steady);
   s->nAfact++;
-  if (s->lu_want && !s->lu && !(s->lu = fci_lu_new(s->A.n, s->A.colptr, s->A.rowind, LU_CAP)))
-    s->lu_want = 0; /* fill-in, or out of memory here: KLU */
-  s->lu_on = s->lu_want && fci_lu_factor(s->lu, affine ? s->aa0 : s->A.val,
-                                         affine ? s->aa1 : NULL, gamma) == FC_OK;
-  s->nFixed += s->lu_on;
+  s->lu_on = fixed_factor(s, &s->lu, &s->lu_want, &s->A, affine ? s->aa0 : s->A.val,
+                          affine ? s->aa1 : NULL, gamma);
   if (s->lu_on) return 0;
   if (affine)
     for (int p = 0; p < s->A.nnz; p++) s->A.val[p] = s->aa0[p] + gamma * s->aa1[p];
   int rc = fci_klu_factor(&s->ak, &s->A, s->afactored);
   s->afactored = (rc == FC_OK);
   return rc ? 1 : 0;
-}
-
-/* Solve with the last factorisation of the Newton matrix, ours or KLU's. */
-static int asolve(fci_sys *s, double *b)
-{
-  if (s->lu_on) {
-    fci_lu_solve(s->lu, b);
-    return FC_OK;
-  }
-  return fci_klu_solve(&s->ak, &s->A, b);
 }
 
 int fci_sys_ksetup(fci_sys *s, double t, const double *x, double gamma)
@@ -444,7 +448,7 @@ int fci_sys_psolve(fci_sys *s, double *r)
   double *b = s->abuf;
   memcpy(b, r, (size_t)s->nx * sizeof *r);
   for (int i = 0; i < s->nz; i++) b[s->nx + i] = 0;
-  if (asolve(s, b)) return 1;
+  if (solve_with(s->lu, s->lu_on, &s->ak, &s->A, b)) return 1;
   /* Store rows were solved for pressure changes; the states are volumes: dV = C dp. */
   for (int k = 0; k < s->nx; k++) r[k] = k < s->ns ? s->Cpre[k] * b[k] : b[k];
   return 0;
@@ -469,7 +473,7 @@ int fci_sys_steady(fci_sys *s, double t, double *x, fc_error *err)
       e->type->xRhs(e, t, pp, x + e->iState, b + e->iState, J);
     }
     for (int i = 0; i < s->nz; i++) b[s->nx + i] = 0;
-    if (asolve(s, b))
+    if (solve_with(s->lu, s->lu_on, &s->ak, &s->A, b))
       return fc_fail(err, FC_ESOLVE, "$.simulation.initial", "steady-state solve failed");
     for (int k = 0; k < s->nx; k++) {
       double ref = k < s->ns ? fabs(s->p[s->xnode[k]] + b[k]) + s->net->sim.abs_tol_p
