@@ -30,8 +30,6 @@ import tempfile
 
 import suite
 
-HERE = os.path.dirname(os.path.abspath(__file__))
-
 
 def needed_libs(binary):
     out = subprocess.run(["readelf", "-d", binary], check=True, capture_output=True,
@@ -53,6 +51,8 @@ def callgrind_split(cmd, wd):
     kernels CVODES calls (ours, src/nvec_fast.c), the C library and libm, and the rest
     (ferrocirc's own code, cJSON, KLU, AMD, the loader)."""
     out = os.path.join(wd, "cg.out")
+    # GLIBC_TUNABLES set, even empty, keeps ferrocirc from re-executing itself with glibc's
+    # huge-page tunable (src/main.c, files of 1 MiB or more), which valgrind cannot follow
     env = dict(os.environ, GLIBC_TUNABLES=os.environ.get("GLIBC_TUNABLES", ""))
     subprocess.run(["valgrind", "--tool=callgrind", "--callgrind-out-file=" + out] + cmd,
                    check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, env=env)
@@ -86,6 +86,12 @@ def main(argv):
     ap.add_argument("--callgrind", action="store_true")
     a = ap.parse_args(argv)
     binary = os.path.abspath(a.binary)
+    if not os.access(binary, os.X_OK):
+        sys.stderr.write("floor.py: %s: no such executable (build first)\n" % a.binary)
+        return 2
+    if a.callgrind and not shutil.which("valgrind"):
+        sys.stderr.write("floor.py: --callgrind needs valgrind (package valgrind)\n")
+        return 2
     with tempfile.TemporaryDirectory(prefix="fc-floor-") as wd:
         net, probe = os.path.join(wd, "net.json"), os.path.join(wd, "probe.json")
         subprocess.run(suite.CIRCUITS["b"]["gen"](a.n, suite.CIRCUITS["b"]["beats"], net, probe),
@@ -133,7 +139,7 @@ def main(argv):
                                            1e3 * budget, 5 * budget / med["ferrocirc run"]))
             print("left for the integration under the fifth: %.2f ms, %.3f us a step"
                   % (1e3 * left, 1e6 * left / steps))
-        if a.callgrind and shutil.which("valgrind"):
+        if a.callgrind:
             total, parts = callgrind_split(rows[-1][1], wd)
             print("\ncallgrind, the run: %.1f M instructions, %.0f a step" % (total / 1e6, total / steps))
             for k, v in parts.items():
