@@ -448,7 +448,7 @@ int fci_sys_psolve(fci_sys *s, double *r)
   double *b = s->abuf;
   memcpy(b, r, (size_t)s->nx * sizeof *r);
   for (int i = 0; i < s->nz; i++) b[s->nx + i] = 0;
-  if (solve_with(s->lu, s->lu_on, &s->ak, &s->A, b)) return 1;
+  if (fci_klu_solve(&s->ak, &s->A, b)) return 1; /* the fixed-pivot LU returned above */
   /* Store rows were solved for pressure changes; the states are volumes: dV = C dp. */
   for (int k = 0; k < s->nx; k++) r[k] = k < s->ns ? s->Cpre[k] * b[k] : b[k];
   return 0;
